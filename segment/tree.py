@@ -1,0 +1,318 @@
+"""The common tree every adapter produces and the segmenter consumes.
+
+A `Document` has a root `Section` (no heading) whose blocks are the text before the first
+heading and whose children are the top-level sections. Every node carries a `Span` saying where
+it came from: 1-based inclusive line range for Markdown and HTML, page range for PDF.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from enum import StrEnum
+from typing import Any, Union
+
+
+@dataclass(slots=True, frozen=True)
+class Span:
+    """Where a node came from in its source file."""
+
+    lines: tuple[int, int] | None = None
+    """1-based inclusive line range (Markdown, HTML)."""
+    pages: tuple[int, int] | None = None
+    """1-based inclusive page range (PDF)."""
+    bbox: tuple[float, float, float, float] | None = None
+    """Bounding box (x0, y0, x1, y1) of the node's first block on its first page (PDF)."""
+
+    def merge(self, other: Span) -> Span:
+        """The smallest span covering both; the bounding box of the first is kept."""
+        return Span(
+            lines=_union(self.lines, other.lines),
+            pages=_union(self.pages, other.pages),
+            bbox=self.bbox if self.bbox is not None else other.bbox,
+        )
+
+
+def _union(a: tuple[int, int] | None, b: tuple[int, int] | None) -> tuple[int, int] | None:
+    if a is None:
+        return b
+    if b is None:
+        return a
+    return (min(a[0], b[0]), max(a[1], b[1]))
+
+
+def merge_spans(spans: list[Span]) -> Span:
+    """Merge many spans; an empty list gives an empty span."""
+    out = Span()
+    for span in spans:
+        out = out.merge(span)
+    return out
+
+
+class BlockKind(StrEnum):
+    """Kinds of block; the values are the strings that appear in `Chunk.blocks`."""
+
+    PARAGRAPH = "paragraph"
+    LIST = "list"
+    TABLE = "table"
+    CODE = "code"
+    QUOTE = "quote"
+    DEFINITIONS = "definitions"
+    HEADING = "heading"
+
+
+@dataclass(slots=True)
+class Heading:
+    """A section heading: plain text, level 1-6 (deeper levels allowed for PDF), anchor."""
+
+    text: str
+    level: int
+    anchor: str | None = None
+    span: Span = field(default_factory=Span)
+
+
+@dataclass(slots=True)
+class Paragraph:
+    """Running text. Line breaks inside are kept as `\\n` only where the source forced them."""
+
+    text: str
+    span: Span = field(default_factory=Span)
+    kind: BlockKind = field(default=BlockKind.PARAGRAPH, init=False)
+
+
+@dataclass(slots=True)
+class ListItem:
+    """One list item; its blocks may hold paragraphs, nested lists, code..."""
+
+    blocks: list[Block] = field(default_factory=list)
+    span: Span = field(default_factory=Span)
+
+
+@dataclass(slots=True)
+class ListBlock:
+    """An ordered or unordered list."""
+
+    items: list[ListItem] = field(default_factory=list)
+    ordered: bool = False
+    start: int = 1
+    span: Span = field(default_factory=Span)
+    kind: BlockKind = field(default=BlockKind.LIST, init=False)
+
+
+@dataclass(slots=True)
+class Row:
+    """One table row: cell texts, already expanded for column and row spans."""
+
+    cells: list[str]
+    span: Span = field(default_factory=Span)
+
+
+@dataclass(slots=True)
+class Table:
+    """A table: optional caption, header rows, body rows."""
+
+    header: list[Row] = field(default_factory=list)
+    rows: list[Row] = field(default_factory=list)
+    caption: str | None = None
+    span: Span = field(default_factory=Span)
+    kind: BlockKind = field(default=BlockKind.TABLE, init=False)
+
+
+@dataclass(slots=True)
+class Code:
+    """Preformatted code: its lines exactly, and the language when the source names one."""
+
+    lines: list[str]
+    language: str | None = None
+    span: Span = field(default_factory=Span)
+    kind: BlockKind = field(default=BlockKind.CODE, init=False)
+
+
+@dataclass(slots=True)
+class Quote:
+    """A block quote or an admonition box; `label` is e.g. "Note" for an alert."""
+
+    blocks: list[Block] = field(default_factory=list)
+    label: str | None = None
+    span: Span = field(default_factory=Span)
+    kind: BlockKind = field(default=BlockKind.QUOTE, init=False)
+
+
+@dataclass(slots=True)
+class Definition:
+    """One entry of a definition list: its terms and the blocks that define them."""
+
+    terms: list[str]
+    blocks: list[Block] = field(default_factory=list)
+    span: Span = field(default_factory=Span)
+
+
+@dataclass(slots=True)
+class DefinitionList:
+    """Terms with their definitions (HTML `dl`, API parameter lists)."""
+
+    items: list[Definition] = field(default_factory=list)
+    span: Span = field(default_factory=Span)
+    kind: BlockKind = field(default=BlockKind.DEFINITIONS, init=False)
+
+
+Block = Union[Paragraph, ListBlock, Table, Code, Quote, DefinitionList]
+"""Any block node."""
+
+
+@dataclass(slots=True)
+class Section:
+    """A heading with its own blocks and its child sections. The root section has no heading."""
+
+    heading: Heading | None = None
+    blocks: list[Block] = field(default_factory=list)
+    children: list[Section] = field(default_factory=list)
+    span: Span = field(default_factory=Span)
+
+    @property
+    def level(self) -> int:
+        """Heading level; 0 for the root."""
+        return self.heading.level if self.heading else 0
+
+
+@dataclass(slots=True)
+class Document:
+    """One parsed source file."""
+
+    source: str
+    format: str
+    title: str | None = None
+    metadata: dict[str, Any] = field(default_factory=dict)
+    root: Section = field(default_factory=Section)
+    warnings: list[str] = field(default_factory=list)
+    """What the adapter could not keep or had to guess, for the file's result (never silent)."""
+
+    @property
+    def sections(self) -> list[Section]:
+        """Top-level sections."""
+        return self.root.children
+
+    def walk(self) -> Iterator[tuple[list[Section], Section]]:
+        """Every section depth-first, with the path of its ancestors (root excluded)."""
+        stack: list[tuple[list[Section], Section]] = [([], self.root)]
+        while stack:
+            path, section = stack.pop()
+            yield path, section
+            child_path = path + [section] if section.heading else path
+            for child in reversed(section.children):
+                stack.append((child_path, child))
+
+
+class SectionBuilder:
+    """Nests headings into sections as an adapter meets them in reading order."""
+
+    def __init__(self, root: Section) -> None:
+        self.root = root
+        self._stack: list[Section] = [root]
+
+    @property
+    def current(self) -> Section:
+        """The section new blocks go into."""
+        return self._stack[-1]
+
+    def open(self, heading: Heading) -> Section:
+        """Start a section for `heading`, closing any open section at the same or deeper level."""
+        while len(self._stack) > 1 and self._stack[-1].level >= heading.level:
+            self._stack.pop()
+        section = Section(heading=heading, span=heading.span)
+        self._stack[-1].children.append(section)
+        self._stack.append(section)
+        return section
+
+    def add(self, block: Block) -> None:
+        """Add a block to the current section."""
+        self.current.blocks.append(block)
+
+
+def finish_spans(section: Section) -> None:
+    """Set every section's span to cover its heading, blocks and children (iteratively)."""
+    order: list[Section] = []
+    stack = [section]
+    while stack:
+        node = stack.pop()
+        order.append(node)
+        stack.extend(node.children)
+    for node in reversed(order):
+        parts = [node.heading.span] if node.heading else []
+        parts += [b.span for b in node.blocks] + [c.span for c in node.children]
+        node.span = merge_spans(parts)
+
+
+def block_children(block: Block) -> list[Block]:
+    """Blocks nested directly inside a block (list items', quotes', definitions')."""
+    if isinstance(block, ListBlock):
+        return [b for item in block.items for b in item.blocks]
+    if isinstance(block, Quote):
+        return list(block.blocks)
+    if isinstance(block, DefinitionList):
+        return [b for item in block.items for b in item.blocks]
+    return []
+
+
+def pretty(document: Document) -> str:
+    """A readable, diffable text form of the tree (used by `segment tree` and golden files)."""
+    out: list[str] = [f"document format={document.format} title={document.title!r}"]
+    for key in sorted(document.metadata):
+        out.append(f"  meta {key}={document.metadata[key]!r}")
+    for warning in document.warnings:
+        out.append(f"  warning {warning}")
+    # Iterative walk: (depth, node) pairs; nodes are sections or blocks.
+    stack: list[tuple[int, object]] = [(1, document.root)]
+    while stack:
+        depth, node = stack.pop()
+        pad = "  " * depth
+        children: list[object] = []
+        if isinstance(node, Section):
+            if node.heading is not None:
+                h = node.heading
+                out.append(f"{pad}section h{h.level} {h.text!r} #{h.anchor} {_span(h.span)}")
+            else:
+                out.append(f"{pad}root {_span(node.span)}")
+            children = [*node.blocks, *node.children]
+        elif isinstance(node, Paragraph):
+            out.append(f"{pad}paragraph {_span(node.span)} {node.text!r}")
+        elif isinstance(node, ListBlock):
+            kind = f"ordered start={node.start}" if node.ordered else "bullet"
+            out.append(f"{pad}list {kind} {_span(node.span)}")
+            children = list(node.items)
+        elif isinstance(node, ListItem):
+            out.append(f"{pad}item {_span(node.span)}")
+            children = list(node.blocks)
+        elif isinstance(node, Table):
+            cap = f" caption={node.caption!r}" if node.caption else ""
+            out.append(f"{pad}table{cap} {_span(node.span)}")
+            for row in node.header:
+                out.append(f"{pad}  header {row.cells!r}")
+            for row in node.rows:
+                out.append(f"{pad}  row {_span(row.span)} {row.cells!r}")
+        elif isinstance(node, Code):
+            out.append(f"{pad}code lang={node.language!r} {_span(node.span)} lines={len(node.lines)}")
+            for line in node.lines:
+                out.append(f"{pad}  | {line}")
+        elif isinstance(node, Quote):
+            label = f" label={node.label!r}" if node.label else ""
+            out.append(f"{pad}quote{label} {_span(node.span)}")
+            children = list(node.blocks)
+        elif isinstance(node, DefinitionList):
+            out.append(f"{pad}definitions {_span(node.span)}")
+            children = list(node.items)
+        elif isinstance(node, Definition):
+            out.append(f"{pad}term {node.terms!r} {_span(node.span)}")
+            children = list(node.blocks)
+        for child in reversed(children):
+            stack.append((depth + 1, child))
+    return "\n".join(out) + "\n"
+
+
+def _span(span: Span) -> str:
+    parts = []
+    if span.lines:
+        parts.append(f"L{span.lines[0]}-{span.lines[1]}")
+    if span.pages:
+        parts.append(f"p{span.pages[0]}-{span.pages[1]}")
+    return "[" + " ".join(parts) + "]"
