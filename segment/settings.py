@@ -36,7 +36,7 @@ class Settings:
     max_tokens: int = 512
     """Token budget of one chunk."""
     min_tokens: int = 64
-    """Sections smaller than this are packed with their siblings (up to `max_tokens`)."""
+    """Sections smaller than this are packed with their siblings (up to `max_tokens`, which caps it)."""
     overlap_tokens: int = 0
     """Whole trailing sentences of the previous chunk repeated at the start of the next, within one section."""
     tokenizer: str | None = None
@@ -59,8 +59,8 @@ class Settings:
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
             raise SettingsError(f"max_tokens must be at least 16, got {self.max_tokens}")
-        if not 0 <= self.min_tokens <= self.max_tokens:
-            raise SettingsError(f"min_tokens must be between 0 and max_tokens, got {self.min_tokens}")
+        if self.min_tokens < 0:
+            raise SettingsError(f"min_tokens must be 0 or more, got {self.min_tokens}")
         if not 0 <= self.overlap_tokens < self.max_tokens // 2:
             raise SettingsError(
                 f"overlap_tokens must be between 0 and half of max_tokens, got {self.overlap_tokens}"

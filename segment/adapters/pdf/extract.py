@@ -1,0 +1,161 @@
+"""Text extraction: pymupdf's "dict" output turned into `Line` records with font facts.
+
+Image data is never requested: the flags below leave out `TEXT_PRESERVE_IMAGES`, which would
+copy every image's bytes into the result.
+"""
+
+from __future__ import annotations
+
+import re
+import unicodedata
+from dataclasses import dataclass, field
+from functools import lru_cache
+from typing import Any
+
+import pymupdf
+
+TEXT_FLAGS: int = (
+    pymupdf.TEXT_PRESERVE_WHITESPACE
+    | pymupdf.TEXT_MEDIABOX_CLIP
+    | pymupdf.TEXT_CID_FOR_UNKNOWN_UNICODE
+)
+"""get_text flags: no images, ligatures expanded by MuPDF, text outside the page dropped."""
+
+# pymupdf span flag bits (documented in the TextPage "dict" format).
+_SUPERSCRIPT = 1
+_ITALIC = 2
+_MONO = 8
+_BOLD = 16
+
+_BOLD_NAME = re.compile(r"bold|black|heavy|semibold|demi|cmbx|cmb\d|-b$|\.b$|bx\d", re.I)
+_MONO_NAME = re.compile(r"mono|courier|cmtt|consol|inconsolata|menlo|code|typewriter|(^|[^a-z])tt", re.I)
+_ITALIC_NAME = re.compile(r"italic|oblique|cmti|cmsl", re.I)
+
+# Compatibility decompositions that are safe to apply: ligatures, no-break and width variants,
+# letter-like font variants. Superscripts, subscripts, fractions and circled forms keep their
+# meaning only in their own form, so they are left alone.
+_SAFE_TAGS = ("<compat>", "<noBreak>", "<wide>", "<narrow>", "<font>", "<small>")
+
+
+@lru_cache(maxsize=4096)
+def _normalise_char(ch: str) -> str:
+    decomposition = unicodedata.decomposition(ch)
+    if decomposition.startswith(_SAFE_TAGS):
+        return unicodedata.normalize("NFKC", ch)
+    return ch
+
+
+def normalise_text(text: str) -> str:
+    """NFKC where safe (ligatures, no-break spaces, width forms); other characters unchanged."""
+    if text.isascii():
+        return text
+    return "".join(_normalise_char(ch) for ch in text)
+
+
+@dataclass(slots=True)
+class Piece:
+    """One styled run of text inside a line (a pymupdf span)."""
+
+    text: str
+    x0: float
+    x1: float
+    size: float
+    bold: bool
+    italic: bool
+    mono: bool
+    superscript: bool
+
+
+@dataclass(slots=True)
+class Line:
+    """One line of text on a page, in page coordinates (points, origin top-left)."""
+
+    page: int
+    """1-based page number."""
+    x0: float
+    y0: float
+    x1: float
+    y1: float
+    pieces: list[Piece]
+    block: int
+    """pymupdf's block number on the page (a paragraph hint)."""
+    text: str = ""
+    size: float = 0.0
+    """Dominant font size (by characters, superscripts excluded)."""
+    bold: float = 0.0
+    """Share of visible characters in bold."""
+    mono: float = 0.0
+    """Share of visible characters in a monospaced font."""
+    flags: set[str] = field(default_factory=set)
+    """Marks set by later stages (e.g. "running", "table")."""
+
+    def finish(self) -> None:
+        """Compute text and style summaries from the pieces."""
+        self.text = "".join(p.text for p in self.pieces)
+        sizes: dict[float, int] = {}
+        total = bold = mono = 0
+        for p in self.pieces:
+            n = sum(1 for ch in p.text if not ch.isspace())
+            if not n:
+                continue
+            total += n
+            if not p.superscript:
+                key = round(p.size * 2) / 2
+                sizes[key] = sizes.get(key, 0) + n
+            if p.bold:
+                bold += n
+            if p.mono:
+                mono += n
+        self.size = max(sizes, key=lambda k: (sizes[k], k)) if sizes else (
+            self.pieces[0].size if self.pieces else 0.0
+        )
+        self.bold = bold / total if total else 0.0
+        self.mono = mono / total if total else 0.0
+
+    @property
+    def height(self) -> float:
+        """Line box height."""
+        return self.y1 - self.y0
+
+    @property
+    def bbox(self) -> tuple[float, float, float, float]:
+        """(x0, y0, x1, y1)."""
+        return (self.x0, self.y0, self.x1, self.y1)
+
+
+def _piece(span: dict[str, Any]) -> Piece:
+    flags = int(span.get("flags", 0))
+    font = str(span.get("font", ""))
+    x0, _, x1, _ = span["bbox"]
+    return Piece(
+        text=normalise_text(span.get("text", "")),
+        x0=float(x0),
+        x1=float(x1),
+        size=float(span.get("size", 0.0)),
+        bold=bool(flags & _BOLD) or bool(_BOLD_NAME.search(font)),
+        italic=bool(flags & _ITALIC) or bool(_ITALIC_NAME.search(font)),
+        mono=bool(flags & _MONO) or bool(_MONO_NAME.search(font)),
+        superscript=bool(flags & _SUPERSCRIPT),
+    )
+
+
+def page_lines(page: pymupdf.Page, page_number: int) -> list[Line]:
+    """The text lines of one page, in pymupdf's order; empty lines dropped."""
+    data = page.get_text("dict", flags=TEXT_FLAGS)
+    out: list[Line] = []
+    for bno, block in enumerate(data.get("blocks", ())):
+        if block.get("type", 0) != 0:
+            continue
+        for raw in block.get("lines", ()):
+            wdir = raw.get("dir", (1.0, 0.0))
+            if abs(wdir[1]) > 0.2:
+                # Rotated text (margin stamps, rotated table heads): kept, but as its own block.
+                bno = -1 - bno
+            pieces = [_piece(s) for s in raw.get("spans", ()) if s.get("text")]
+            if not pieces or not "".join(p.text for p in pieces).strip():
+                continue
+            x0, y0, x1, y1 = raw["bbox"]
+            line = Line(page_number, float(x0), float(y0), float(x1), float(y1), pieces, bno)
+            line.finish()
+            out.append(line)
+    return out

@@ -1,0 +1,72 @@
+"""Sentence boundaries from spaCy's rule-based sentencizer on a blank pipeline.
+
+Loaded lazily, one pipeline per language, and only called for text that must be split. Nothing is
+downloaded: `spacy.blank(lang)` needs only the language data shipped inside spaCy.
+"""
+
+from __future__ import annotations
+
+import logging
+import re
+from functools import lru_cache
+from typing import Any
+
+log = logging.getLogger(__name__)
+
+WINDOW_CHARS = 200_000
+"""Longer texts are cut at whitespace into windows this long before the sentencizer sees them
+(spaCy refuses texts over `nlp.max_length`, 1,000,000 characters by default)."""
+
+_SPACE = re.compile(r"\s")
+
+
+@lru_cache(maxsize=4)
+def _pipeline(language: str) -> Any:
+    import spacy
+
+    try:
+        nlp = spacy.blank(language)
+    except Exception:  # unknown language code: spaCy raises ImportError/KeyError-like errors
+        log.warning("spaCy has no language %r; sentences use the multi-language rules", language)
+        nlp = spacy.blank("xx")
+    nlp.add_pipe("sentencizer")
+    nlp.max_length = WINDOW_CHARS * 2
+    return nlp
+
+
+def split_sentences(text: str, language: str = "en") -> list[str]:
+    """Cut `text` into sentences; their concatenation is exactly `text` (spaces stay attached)."""
+    if not text.strip():
+        return [text] if text else []
+    out: list[str] = []
+    for window in _windows(text):
+        doc = _pipeline(language)(window)
+        starts = [s.start_char for s in doc.sents]
+        if not starts or starts[0] != 0:
+            starts.insert(0, 0)
+        for i, start in enumerate(starts):
+            end = starts[i + 1] if i + 1 < len(starts) else len(window)
+            out.append(window[start:end])
+    return out
+
+
+def _windows(text: str) -> list[str]:
+    """Text cut at whitespace into pieces of at most about WINDOW_CHARS characters."""
+    if len(text) <= WINDOW_CHARS:
+        return [text]
+    parts: list[str] = []
+    start = 0
+    while start < len(text):
+        end = min(start + WINDOW_CHARS, len(text))
+        if end < len(text):
+            # Back up to the last whitespace in the window, if any (else cut hard).
+            cut = text.rfind(" ", start + WINDOW_CHARS // 2, end)
+            if cut == -1:
+                m = None
+                for m in _SPACE.finditer(text, start + WINDOW_CHARS // 2, end):
+                    pass
+                cut = m.start() if m else -1
+            end = cut + 1 if cut != -1 else end
+        parts.append(text[start:end])
+        start = end
+    return parts

@@ -1,0 +1,214 @@
+"""Cutting one block that is over budget into parts, each under budget.
+
+Rules (DESIGN.md section 6): tables between rows, with the caption and header repeated at the top
+of every part; lists between items; code between lines; quotes and definition lists between their
+entries; paragraphs between sentences, a sentence between words, a word between characters last.
+Only a table row that cannot fit even alone (with its header) makes an over-budget part, flagged.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from segment.render import (
+    code_fence,
+    quote_label,
+    render_block,
+    render_definition,
+    render_item,
+    render_row,
+    table_prefix,
+)
+from segment.sentences import split_sentences
+from segment.tokens import TokenCounter
+from segment.tree import Block, Code, DefinitionList, ListBlock, Paragraph, Quote, Span, Table
+
+
+@dataclass(slots=True)
+class Part:
+    """A piece of one block's text that fits the budget (unless `oversize`)."""
+
+    text: str
+    tokens: int
+    span: Span
+    oversize: bool = False
+
+
+@dataclass(slots=True)
+class _Unit:
+    text: str
+    span: Span
+
+
+class Splitter:
+    """Splits blocks under a counter and a language; one instance per document run."""
+
+    def __init__(self, counter: TokenCounter, language: str) -> None:
+        self.counter = counter
+        self.language = language
+
+    def count(self, text: str) -> int:
+        """Tokens of `text` under the run's counter."""
+        return self.counter.count(text)
+
+    def split(self, block: Block, first_budget: int, budget: int) -> list[Part]:
+        """Parts of `block`; the first fits `first_budget` (the room left in the current chunk),
+        the others `budget`. The first part is empty-text when nothing fits the first budget."""
+        if isinstance(block, Table):
+            prefix = "\n".join(table_prefix(block))
+            units = [_Unit(render_row(r), r.span) for r in block.rows]
+            return self._pack(units, "\n", prefix, "", first_budget, budget, block.span, rows=True)
+        if isinstance(block, ListBlock):
+            units = [_Unit(render_item(block, i), it.span) for i, it in enumerate(block.items)]
+            return self._pack(units, "\n", "", "", first_budget, budget, block.span)
+        if isinstance(block, Code):
+            units = [_Unit(line, block.span) for line in block.lines]
+            return self._pack(units, "\n", code_fence(block), "```", first_budget, budget, block.span)
+        if isinstance(block, Quote):
+            units = [_Unit(render_block(b), b.span) for b in block.blocks]
+            return self._pack(units, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span)
+        if isinstance(block, DefinitionList):
+            units = [_Unit(render_definition(d), d.span) for d in block.items]
+            return self._pack(units, "\n", "", "", first_budget, budget, block.span)
+        if isinstance(block, Paragraph):
+            return self.split_text(block.text, block.span, first_budget, budget)
+        raise TypeError(f"not a block: {type(block).__name__}")
+
+    def split_text(self, text: str, span: Span, first_budget: int, budget: int) -> list[Part]:
+        """Running text cut between sentences (then words, then characters)."""
+        sentences = [s.strip() for s in split_sentences(text, self.language)]
+        units = [_Unit(s, span) for s in sentences if s]
+        return self._pack(units, " ", "", "", first_budget, budget, span)
+
+    def _pack(
+        self,
+        units: list[_Unit],
+        joiner: str,
+        prefix: str,
+        suffix: str,
+        first_budget: int,
+        budget: int,
+        span: Span,
+        rows: bool = False,
+    ) -> list[Part]:
+        """Greedy packing of units between a repeated prefix and suffix.
+
+        Invariant: every part's real count fits its budget (the first part `first_budget`, the
+        others `budget`), except a lone table row flagged `oversize`. Sums of unit counts decide
+        tentatively; the joined text is counted again on closing a part, since subword counts are
+        not always additive, and the last unit goes back to the queue when it went over.
+        """
+        frame = self.count(prefix + "\n" + suffix) if prefix or suffix else 0
+        parts: list[Part] = []
+        current: list[_Unit] = []
+        used = frame
+        limit = first_budget
+        queue = list(reversed(units))
+
+        def close() -> None:
+            nonlocal current, used, limit
+            while current:
+                part = self._make(current, joiner, prefix, suffix, span)
+                if part.tokens <= limit or len(current) == 1:
+                    parts.append(part)
+                    break
+                queue.append(current.pop())
+            current, used, limit = [], frame, budget
+
+        while queue:
+            unit = queue.pop()
+            cost = self.count(unit.text)
+            if used + cost <= limit:
+                current.append(unit)
+                used += cost
+                continue
+            fits_fresh = frame + cost <= budget
+            if current or (limit < budget and (fits_fresh or limit - frame < budget // 4)):
+                close()
+                limit = budget
+                queue.append(unit)
+                continue
+            # The unit alone is over the room it has, in an empty part.
+            if rows:
+                text = self._join([unit], joiner, prefix, suffix)
+                parts.append(Part(text, self.count(text), unit.span, oversize=True))
+                limit = budget
+                continue
+            pieces = self._break(unit.text, max(limit - frame, 1), max(budget - frame, 1))
+            if len(pieces) == 1:  # cannot be broken further: it goes alone
+                current.append(unit)
+                close()
+                continue
+            queue.extend(reversed([_Unit(p, unit.span) for p in pieces]))
+        close()
+        return parts
+
+    def _break(self, text: str, first_room: int, room: int) -> list[str]:
+        """An over-budget unit as smaller texts: sentences, else words, else characters."""
+        sentences = [s.strip() for s in split_sentences(text, self.language) if s.strip()]
+        if len(sentences) > 1:
+            return sentences
+        words = text.split()
+        if len(words) > 1:
+            return self._pack_words(words, first_room, room)
+        return self._cut_chars(text, first_room, room)
+
+    def _pack_words(self, words: list[str], first_room: int, room: int) -> list[str]:
+        out: list[str] = []
+        current: list[str] = []
+        used = 0
+        limit = first_room
+        for word in words:
+            cost = self.count(word)
+            if cost > room:
+                if current:
+                    out.append(" ".join(current))
+                    current, used, limit = [], 0, room
+                out.extend(self._cut_chars(word, limit, room))
+                limit = room
+                continue
+            if used + cost > limit and current:
+                out.append(" ".join(current))
+                current, used, limit = [], 0, room
+            elif used + cost > limit:
+                limit = room
+            current.append(word)
+            used += cost
+        if current:
+            out.append(" ".join(current))
+        return out
+
+    def _cut_chars(self, text: str, first_room: int, room: int) -> list[str]:
+        """Last resort for a run without spaces: cut into pieces of at most `room` tokens."""
+        out: list[str] = []
+        start = 0
+        limit = max(first_room, 1)
+        while start < len(text):
+            # Grow a window by doubling, then binary-search its end.
+            lo, hi = start + 1, min(len(text), start + max(limit, 1) * 8)
+            while hi < len(text) and self.count(text[start:hi]) <= limit:
+                lo, hi = hi, min(len(text), start + (hi - start) * 2)
+            if self.count(text[start:hi]) <= limit:
+                lo = hi
+            else:
+                while lo < hi - 1:
+                    mid = (lo + hi) // 2
+                    if self.count(text[start:mid]) <= limit:
+                        lo = mid
+                    else:
+                        hi = mid
+            out.append(text[start:lo])
+            start = lo
+            limit = max(room, 1)
+        return out
+
+    def _join(self, units: list[_Unit], joiner: str, prefix: str, suffix: str) -> str:
+        body = joiner.join(u.text for u in units)
+        return "\n".join(x for x in (prefix, body, suffix) if x)
+
+    def _make(self, units: list[_Unit], joiner: str, prefix: str, suffix: str, span: Span) -> Part:
+        text = self._join(units, joiner, prefix, suffix)
+        merged = units[0].span
+        for u in units[1:]:
+            merged = merged.merge(u.span)
+        return Part(text, self.count(text), merged)
