@@ -124,6 +124,8 @@ class Segmenter:
             if tokens <= self.budget:
                 pending.append(_Unit(self._all_pieces(child), tokens, child_crumb, child_anchor))
                 continue
+            if all(p.kind == BlockKind.HEADING for u in pending for p in u.pieces):
+                pending = []  # a bare heading: every chunk of the child carries it in its breadcrumb
             self._flush_units(pending, crumb, out)
             pending = []
             self._section(child, child_crumb, child_anchor, out, title)

@@ -96,6 +96,9 @@ def strip_shortcodes(text: str) -> str:
             label = ""
         else:
             label = _shortcode_label(body)
+            # Two trailing spaces make a hard break: the label stays on a line of its own.
+            if label and text.startswith("\n", m.end()):
+                label += "  "
         return label + "\n" * newlines
 
     return _SHORTCODE.sub(replace, text)
