@@ -108,6 +108,12 @@ class Segmenter:
         ]
         whole = self._whole_tokens(section)
         if whole <= self.budget:
+            # A lone child holding everything names the chunk better than its empty parent.
+            node = section
+            while not node.blocks and len(node.children) == 1 and node.children[0].heading:
+                node = node.children[0]
+                crumb = self._child_crumb(crumb, node, title)
+                anchor = node.heading.anchor if node.heading else anchor
             pieces = self._all_pieces(section)
             if pieces:
                 out.append(Draft(pieces, crumb, anchor, self._next_key()))
