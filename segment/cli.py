@@ -51,6 +51,11 @@ def _settings(src: Path | None, kwargs: dict[str, Any]) -> Settings:
         raise click.UsageError(str(exc)) from exc
 
 
+def report(exc: SegmentError) -> None:
+    """One line on stderr naming the file, the reason and the status."""
+    click.echo(f"error: {exc.source}: {exc.reason} [{exc.status}]", err=True)
+
+
 @click.group()
 @click.version_option(package_name="docsegment")
 @click.option("-v", "--verbose", count=True, help="More log lines on stderr (-vv for debug).")
@@ -69,14 +74,15 @@ def chunks_command(files: tuple[Path, ...], **kwargs: Any) -> None:
     """Print the chunks of FILES as JSON Lines on stdout."""
     settings = _settings(None, kwargs)
     failed = 0
-    out = click.get_text_stream("stdout")
     for path in files:
         try:
-            for c in chunk(parse(path, settings, source=path.as_posix()), settings):
-                out.write(c.to_json() + "\n")
+            lines = [c.to_json() for c in chunk(parse(path, settings, source=path.as_posix()), settings)]
         except SegmentError as exc:
             failed += 1
-            log.error("%s (%s)", exc, exc.status)
+            report(exc)
+            continue
+        for line in lines:
+            click.echo(line)
     if failed:
         raise SystemExit(1)
 
@@ -88,7 +94,7 @@ def tree_command(file: Path) -> None:
     try:
         click.echo(pretty(parse(file, source=file.as_posix())), nl=False)
     except SegmentError as exc:
-        log.error("%s (%s)", exc, exc.status)
+        report(exc)
         raise SystemExit(1) from exc
 
 

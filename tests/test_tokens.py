@@ -1,0 +1,57 @@
+"""Token counters: the estimator's documented rules, tokenizer.json files, callables."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+from segment.errors import SettingsError
+from segment.tokens import CallableCounter, EstimateCounter, TokenizerFileCounter, counter_for
+
+
+@pytest.mark.parametrize(
+    ("text", "expected"),
+    [
+        ("the", 1),  # a short word is one token
+        ("configuration", 3),  # one per started 6 letters
+        ("2024", 2),  # one per started 3 digits
+        ("a, b.", 4),  # punctuation counts one each
+        ("日本語", 3),  # letters outside Latin scripts count one each
+        ("", 0),
+    ],
+)
+def test_estimator_rules(text: str, expected: int) -> None:
+    assert EstimateCounter().count(text) == expected
+
+
+def test_estimator_is_additive_over_whitespace() -> None:
+    c = EstimateCounter()
+    parts = ["Drones hold", "at 120 m,", "then land."]
+    assert c.count("\n\n".join(parts)) == sum(c.count(p) for p in parts)
+
+
+def test_tokenizer_file_counts_without_special_tokens(tmp_path: Path) -> None:
+    from tokenizers import Tokenizer, models, pre_tokenizers, trainers
+
+    tok = Tokenizer(models.WordLevel(unk_token="[UNK]"))
+    tok.pre_tokenizer = pre_tokenizers.Whitespace()
+    tok.train_from_iterator(["alpha beta gamma"] * 3, trainers.WordLevelTrainer(special_tokens=["[UNK]"]))
+    path = tmp_path / "tokenizer.json"
+    tok.save(str(path))
+    counter = TokenizerFileCounter(path)
+    assert counter.count("alpha beta gamma delta") == 4
+    assert counter_for(str(path)).count("alpha") == 1
+
+
+def test_missing_or_bad_tokenizer_file_is_a_settings_error(tmp_path: Path) -> None:
+    with pytest.raises(SettingsError, match="not found"):
+        TokenizerFileCounter(tmp_path / "nope.json")
+    bad = tmp_path / "bad.json"
+    bad.write_text("{}")
+    with pytest.raises(SettingsError, match="not a valid tokenizer.json"):
+        TokenizerFileCounter(bad)
+
+
+def test_callable_counter() -> None:
+    assert CallableCounter(len).count("abcd") == 4
