@@ -1,0 +1,140 @@
+"""The change feed OUT/changes.jsonl (DESIGN.md section 5).
+
+One JSON object a line, appended only:
+    {"seq": n, "op": "upsert" | "delete", "id": ..., "source": ...}
+    {"seq": n, "op": "error", "source": ..., "error": ...}
+`seq` starts at 1 and strictly increases across restarts. Entries are written and fsynced before
+the store commits, so after a crash the feed may repeat entries of the interrupted batch (with
+new numbers); replaying upserts and deletes as set operations is idempotent, so an indexer that
+applies them in order always ends with the current id set.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from collections.abc import Iterable, Iterator
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from daemon.durable import crashpoint
+
+FEED_NAME = "changes.jsonl"
+
+
+@dataclass(frozen=True, slots=True)
+class FeedEntry:
+    """One line of the feed before it is numbered."""
+
+    op: str
+    """`upsert`, `delete` or `error`."""
+    source: str
+    id: str | None = None
+    error: str | None = None
+
+    def to_dict(self, seq: int) -> dict[str, Any]:
+        """The JSON form, keys in the documented order."""
+        if self.op == "error":
+            return {"seq": seq, "op": "error", "source": self.source, "error": self.error}
+        return {"seq": seq, "op": self.op, "id": self.id, "source": self.source}
+
+
+def diff_ids(source: str, old: list[str], new: list[str]) -> list[FeedEntry]:
+    """Entries for one file: delete ids that disappeared, then upsert ids that appeared."""
+    old_set, new_set = set(old), set(new)
+    out = [FeedEntry("delete", source, id=i) for i in dict.fromkeys(old) if i not in new_set]
+    out += [FeedEntry("upsert", source, id=i) for i in dict.fromkeys(new) if i not in old_set]
+    return out
+
+
+class Feed:
+    """Appender for OUT/changes.jsonl that numbers entries and survives torn writes."""
+
+    def __init__(self, out: Path, last_committed: int = 0) -> None:
+        self.path = out / FEED_NAME
+        self.last_seq = max(last_committed, repair_tail(self.path))
+        """Sequence number of the last entry on disk."""
+
+    def append(self, entries: Iterable[FeedEntry]) -> int:
+        """Append entries, fsync, and return the last sequence number used."""
+        lines = []
+        seq = self.last_seq
+        for entry in entries:
+            seq += 1
+            lines.append(json.dumps(entry.to_dict(seq), ensure_ascii=False, separators=(",", ":")))
+        if not lines:
+            return self.last_seq
+        data = ("\n".join(lines) + "\n").encode("utf-8")
+        fd = os.open(self.path, os.O_WRONLY | os.O_APPEND | os.O_CREAT, 0o644)
+        try:
+            half = len(data) // 2
+            os.write(fd, data[:half])
+            crashpoint("mid_feed_write")
+            view = memoryview(data)[half:]
+            while view:
+                view = view[os.write(fd, view):]
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+        self.last_seq = seq
+        return seq
+
+
+def repair_tail(path: Path) -> int:
+    """Cut a torn last line off the feed and return the last complete entry's seq (0 if none)."""
+    try:
+        fd = os.open(path, os.O_RDWR)
+    except FileNotFoundError:
+        return 0
+    try:
+        size = os.fstat(fd).st_size
+        block = 1 << 16
+        end = size
+        tail = b""
+        # Walk back until the tail holds a full line (entries are short, one block is typical).
+        while end > 0:
+            start = max(0, end - block)
+            tail = os.pread(fd, end - start, start) + tail
+            end = start
+            if tail.count(b"\n") >= 2 or end == 0:
+                break
+        base = size - len(tail)
+        cut = tail.rfind(b"\n") + 1  # keep everything through the last newline
+        if base + cut != size:
+            os.ftruncate(fd, base + cut)
+            os.fsync(fd)
+        complete = tail[:cut].splitlines()
+        for line in reversed(complete):
+            try:
+                return int(json.loads(line)["seq"])
+            except (ValueError, KeyError, TypeError):
+                continue
+        return 0
+    finally:
+        os.close(fd)
+
+
+def read_feed(out: Path, after: int = 0) -> Iterator[dict[str, Any]]:
+    """Entries with seq > `after`, in order; a torn last line is skipped."""
+    path = out / FEED_NAME
+    if not path.exists():
+        return
+    with open(path, "rb") as fh:
+        for raw in fh:
+            if not raw.endswith(b"\n"):
+                break
+            entry = json.loads(raw)
+            if entry["seq"] > after:
+                yield entry
+
+
+def replay(out: Path) -> dict[str, str]:
+    """Apply the whole feed as set operations: the current id -> source map it implies."""
+    ids: dict[str, str] = {}
+    for entry in read_feed(out):
+        if entry["op"] == "upsert":
+            ids[entry["id"]] = entry["source"]
+        elif entry["op"] == "delete":
+            ids.pop(entry["id"], None)
+    return ids

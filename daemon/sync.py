@@ -1,0 +1,412 @@
+"""Reconcile: make OUT match SRC. The disk is the truth; events only say where to look.
+
+For a set of candidate paths (the whole tree, a folder, or the paths of a watch batch):
+1. stat each on disk (through `Scope`) and read its store row;
+2. unchanged when the store trusts the stat (`FileState.trusts`); else hash the file, and a
+   matching hash only refreshes the row (a `touch` parses nothing);
+3. parse the rest in worker processes; a file that changed during its parse is retried;
+4. per group of results: write chunk files atomically, unlink chunk files of deleted sources,
+   fsync their folders, append the feed, and commit the store last. A crash anywhere leaves the
+   store describing an older state, so the next reconcile redoes the group (idempotently).
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import os
+import time
+from collections.abc import Callable, Iterable
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from segment.settings import Settings
+
+from daemon.durable import crashpoint, fsync_dir, remove_temps, write_atomic
+from daemon.feed import Feed, FeedEntry, diff_ids
+from daemon.lock import OutputLock
+from daemon.scope import Scope, display_name
+from daemon.store import FileState, StatSig, Store
+from daemon.workers import Outcome, Task, WorkerPool, content_hash
+
+log = logging.getLogger(__name__)
+
+CHUNKS_DIR = "chunks"
+GROUP_FILES = 200
+"""Results per store transaction during a long reconcile (bounds the work a crash redoes)."""
+GROUP_SECONDS = 2.0
+RETRIES_ON_CHANGE = 3
+"""Attempts for a file that keeps changing while it is parsed, before waiting for a later pass."""
+RETRY_LIMIT = 3
+"""A file that failed with a transient status is retried until it failed this often unchanged."""
+TRANSIENT = frozenset({"timeout", "crashed", "resource_limit", "error", "unreadable"})
+
+Progress = Callable[[int, int], None]
+"""Called with (files done, files to parse) while a reconcile parses."""
+
+
+@dataclass(slots=True)
+class SyncReport:
+    """What one reconcile pass did."""
+
+    scanned: int = 0
+    """Files looked at (on disk or in the store)."""
+    parsed: int = 0
+    """Files re-segmented successfully."""
+    unchanged: int = 0
+    deleted: int = 0
+    failed: list[tuple[str, str, str]] = field(default_factory=list)
+    """(source, status, reason) of files that failed in this pass."""
+    added: int = 0
+    """Chunk ids announced as upserts."""
+    removed: int = 0
+    """Chunk ids announced as deletes."""
+    skipped: list[str] = field(default_factory=list)
+    """Sources that kept changing during their parse (left for the next pass)."""
+    last_seq: int = 0
+    ms: float = 0.0
+    parse_pids: set[int] = field(default_factory=set)
+    """Processes that parsed files (never the daemon's own pid)."""
+
+    def line(self, what: str) -> str:
+        """The one log line for this pass."""
+        failed = f", {len(self.failed)} failed" if self.failed else ""
+        skipped = f", {len(self.skipped)} still changing" if self.skipped else ""
+        return (
+            f"{what}: {self.scanned} files, re-segmented {self.parsed} files, deleted {self.deleted}"
+            f"{failed}{skipped}; chunks +{self.added} -{self.removed}; {self.ms:.0f} ms"
+        )
+
+    def merge(self, other: SyncReport) -> None:
+        """Add another pass's counts to this one."""
+        self.scanned += other.scanned
+        self.parsed += other.parsed
+        self.unchanged += other.unchanged
+        self.deleted += other.deleted
+        self.failed += other.failed
+        self.added += other.added
+        self.removed += other.removed
+        self.skipped += other.skipped
+        self.last_seq = max(self.last_seq, other.last_seq)
+        self.parse_pids |= other.parse_pids
+
+
+class Syncer:
+    """Owns one OUT folder (lock, store, feed, workers) and reconciles it with SRC."""
+
+    def __init__(self, src: Path, out: Path, settings: Settings, *, jobs: int = 1) -> None:
+        self.src = Path(os.path.abspath(src))
+        self.out = Path(os.path.abspath(out))
+        self.settings = settings
+        self.fingerprint = settings.fingerprint()
+        self.lock = OutputLock(self.out)
+        try:
+            self.chunks = self.out / CHUNKS_DIR
+            self.chunks.mkdir(exist_ok=True)
+            removed = remove_temps(self.out)
+            if removed:
+                log.info("removed %d temp files left by an interrupted run", removed)
+            self.store = Store.open(self.out)
+            self.feed = Feed(self.out, self.store.last_seq)
+            self.scope = Scope(self.src, self.out, settings)
+            self.pool = WorkerPool(settings, jobs)
+        except BaseException:
+            self.lock.release()
+            raise
+        self._group: _Group = _Group()
+
+    def close(self) -> None:
+        """Stop the workers, close the store, release the lock."""
+        try:
+            self.pool.close()
+            self.store.close()
+        finally:
+            self.lock.release()
+
+    def __enter__(self) -> Syncer:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    # -- entry points ----------------------------------------------------------------------
+
+    def reconcile(self, *, full: bool = False, progress: Progress | None = None) -> SyncReport:
+        """Bring all of OUT up to date with all of SRC (`full`: re-segment every file)."""
+        self._check_root()
+        on_disk = self.scope.scan()
+        rows = self.store.all()
+        report = self._sync(on_disk, rows, force=full, progress=progress)
+        report.deleted += self._remove_orphans(set(self.store.all()) | set(on_disk))
+        with self.store.transaction():
+            self.store.bump("full_reconciles")
+            self.store.set_meta("fingerprint", self.fingerprint)
+            self.store.set_meta("src", str(self.src))
+        return report
+
+    def sync_paths(self, paths: Iterable[str], folders: Iterable[str] = ()) -> SyncReport:
+        """Bring the given relative paths (files, and folders with everything below) up to date."""
+        self._check_root()
+        on_disk: dict[str, StatSig] = {}
+        rows: dict[str, FileState] = {}
+        for rel in paths:
+            sig = self.scope.stat_file(rel)
+            if sig is not None:
+                on_disk[rel] = sig
+            row = self.store.get(rel)
+            if row is not None:
+                rows[rel] = row
+        for folder in folders:
+            on_disk.update(self.scope.scan(folder))
+            rows.update(self.store.under(folder))
+        return self._sync(on_disk, rows, force=False, progress=None)
+
+    def _check_root(self) -> None:
+        if not self.src.is_dir():
+            raise SourceMissing(f"{self.src}: source folder is missing or not a folder; "
+                                "nothing was changed in the output")
+
+    # -- the pass --------------------------------------------------------------------------
+
+    def _sync(self, on_disk: dict[str, StatSig], rows: dict[str, FileState], *, force: bool,
+              progress: Progress | None) -> SyncReport:
+        started = time.monotonic()
+        report = SyncReport(scanned=len(set(on_disk) | set(rows)))
+        self._group = _Group()
+        to_parse: dict[str, StatSig] = {}
+        for rel in sorted(set(on_disk) | set(rows)):
+            sig, row = on_disk.get(rel), rows.get(rel)
+            if sig is None:
+                assert row is not None
+                self._delete(row, report)
+            elif row is None or force:
+                to_parse[rel] = sig
+            elif self._unchanged(rel, sig, row):
+                report.unchanged += 1
+            else:
+                to_parse[rel] = sig
+        self._parse(to_parse, rows, report, progress)
+        self._flush(report)
+        report.ms = (time.monotonic() - started) * 1000
+        report.last_seq = self.feed.last_seq
+        return report
+
+    def _unchanged(self, rel: str, sig: StatSig, row: FileState) -> bool:
+        """True when the file needs no parse; refreshes the row when only its stat moved."""
+        retry = row.status in TRANSIENT and row.failures < RETRY_LIMIT
+        if row.trusts(sig, self.fingerprint):
+            return not retry
+        if row.fingerprint != self.fingerprint or not row.hash:
+            return False
+        try:
+            with open(self.scope.abs(rel), "rb") as fh:
+                digest = content_hash(fh.read())
+            after = self.scope.stat_file(rel)
+        except OSError:
+            return False
+        if digest != row.hash or after != sig:
+            return False
+        # Same bytes: remember the new stat so the next pass trusts it (no parse, no feed).
+        row.sig, row.recorded_ns = sig, time.time_ns()
+        self._group.rows.append(row)
+        return not retry
+
+    def _parse(self, to_parse: dict[str, StatSig], rows: dict[str, FileState], report: SyncReport,
+               progress: Progress | None) -> None:
+        total = len(to_parse)
+        done = 0
+        attempts: dict[str, int] = {}
+        while to_parse:
+            tasks = [Task(rel, str(self.scope.abs(rel)), display_name(rel)) for rel in to_parse]
+            again: dict[str, StatSig] = {}
+            for outcome in self.pool.map(tasks):
+                rel = outcome.path
+                if outcome.pid:
+                    report.parse_pids.add(outcome.pid)
+                if outcome.status == "changed":
+                    attempts[rel] = attempts.get(rel, 0) + 1
+                    if attempts[rel] < RETRIES_ON_CHANGE:
+                        again[rel] = to_parse[rel]
+                        continue
+                    report.skipped.append(display_name(rel))
+                elif outcome.status == "missing":
+                    sig = self.scope.stat_file(rel)
+                    if sig is not None and attempts.get(rel, 0) < RETRIES_ON_CHANGE:
+                        attempts[rel] = attempts.get(rel, 0) + 1
+                        again[rel] = sig
+                        continue
+                    if rel in rows:
+                        self._delete(rows[rel], report)
+                else:
+                    self._record(outcome, to_parse[rel], rows.get(rel), report)
+                done += 1
+                if progress is not None:
+                    progress(done, total)
+                if self._group.due():
+                    self._flush(report)
+            to_parse = again
+
+    # -- one file's result -----------------------------------------------------------------
+
+    def _record(self, outcome: Outcome, scan_sig: StatSig, row: FileState | None,
+                report: SyncReport) -> None:
+        rel = outcome.path
+        source = display_name(rel)
+        if row is not None:
+            old_ids, announced = row.ids, True
+        else:
+            # No row: a first sight, or a crash/rebuild left a chunk file the store does not
+            # know. Its ids may never have reached the feed, so everything kept is re-announced.
+            old_ids, announced = self._ids_in_chunk_file(rel), False
+        group = self._group
+        if outcome.status == "ok":
+            assert outcome.sig is not None
+            write_atomic(self.chunk_path(rel), outcome.data, sync_dir=False)
+            group.dirs.add(self.chunk_path(rel).parent)
+            crashpoint("mid_batch")
+            entries = diff_ids(source, old_ids, outcome.ids)
+            if not announced:
+                entries = [e for e in entries if e.op == "delete"]
+                entries += [FeedEntry("upsert", source, id=i) for i in dict.fromkeys(outcome.ids)]
+            group.entries += entries
+            report.parsed += 1
+            report.added += sum(1 for e in entries if e.op == "upsert")
+            report.removed += sum(1 for e in entries if e.op == "delete")
+            group.rows.append(FileState(
+                rel, source, outcome.sig, outcome.hash, self.fingerprint, outcome.ids,
+                recorded_ns=outcome.recorded_ns,
+            ))
+            return
+        # A failure keeps the last good chunks; the feed says why.
+        sig = outcome.sig or scan_sig
+        if not outcome.hash:  # the worker died before it could say: hash here, for quarantine
+            try:
+                with open(self.scope.abs(rel), "rb") as fh:
+                    outcome.hash = content_hash(fh.read())
+            except OSError:
+                pass
+        same = row is not None and (row.hash == outcome.hash if outcome.hash else row.sig == sig)
+        failures = (row.failures + 1) if (row is not None and same and row.status != "ok") else 1
+        reason = outcome.reason or outcome.status
+        if outcome.status in TRANSIENT and failures >= RETRY_LIMIT:
+            reason += f" (failed {failures} times; quarantined until the file changes)"
+        log.warning("%s: %s: %s", source, outcome.status, reason)
+        report.failed.append((source, outcome.status, reason))
+        group.entries.append(FeedEntry("error", source, error=f"{outcome.status}: {reason}"))
+        if not announced:
+            group.entries += [FeedEntry("upsert", source, id=i) for i in old_ids]
+        group.rows.append(FileState(
+            rel, source, sig, outcome.hash or (row.hash if row and same else ""),
+            self.fingerprint, list(old_ids), status=outcome.status, error=reason,
+            failures=failures, recorded_ns=outcome.recorded_ns or time.time_ns(),
+        ))
+
+    def _delete(self, row: FileState, report: SyncReport) -> None:
+        path = self.chunk_path(row.path)
+        self._unlink_chunk_file(path)
+        entries = [FeedEntry("delete", row.source, id=i) for i in dict.fromkeys(row.ids)]
+        self._group.entries += entries
+        self._group.gone.append(row.path)
+        report.deleted += 1
+        report.removed += len(entries)
+
+    def _unlink_chunk_file(self, path: Path) -> None:
+        try:
+            path.unlink()
+        except FileNotFoundError:
+            pass
+        folder = path.parent
+        # Drop folders the deletion emptied, so OUT/chunks mirrors the current tree.
+        while folder != self.chunks and folder.is_relative_to(self.chunks):
+            try:
+                folder.rmdir()
+            except OSError:
+                break
+            folder = folder.parent
+        self._group.dirs.add(folder)
+
+    def _remove_orphans(self, known: set[str]) -> int:
+        """Delete chunk files no store row accounts for (left by a crash or a lost store)."""
+        orphans: list[str] = []
+        stack = [self.chunks]
+        while stack:
+            folder = stack.pop()
+            try:
+                entries = list(os.scandir(folder))
+            except OSError:
+                continue
+            for entry in entries:
+                if entry.is_dir(follow_symlinks=False):
+                    stack.append(Path(entry.path))
+                elif entry.name.endswith(".jsonl"):
+                    rel = os.path.relpath(entry.path, self.chunks).replace(os.sep, "/")[: -len(".jsonl")]
+                    if rel not in known:
+                        orphans.append(rel)
+        if not orphans:
+            return 0
+        report = SyncReport()
+        self._group = _Group()
+        for rel in sorted(orphans):
+            ids = self._ids_in_chunk_file(rel)
+            self._delete(FileState(rel, display_name(rel), StatSig(0, 0, 0, 0, 0), "", "", ids), report)
+        self._group.gone.clear()  # no rows to drop
+        self._flush(report)
+        log.info("removed %d chunk files whose sources are gone", len(orphans))
+        return len(orphans)
+
+    # -- commit ----------------------------------------------------------------------------
+
+    def _flush(self, report: SyncReport) -> None:
+        """Make the group durable: folders fsynced, feed appended, store committed last."""
+        group, self._group = self._group, _Group()
+        if group.empty():
+            return
+        for folder in sorted(group.dirs):
+            if folder.is_dir():
+                fsync_dir(folder)
+        crashpoint("before_feed")
+        last = self.feed.append(group.entries)
+        crashpoint("before_commit")
+        with self.store.transaction():
+            for row in group.rows:
+                self.store.put(row)
+            for rel in group.gone:
+                self.store.delete(rel)
+            self.store.set_meta("last_seq", last)
+        crashpoint("after_commit")
+        report.last_seq = last
+
+    # -- chunk files -----------------------------------------------------------------------
+
+    def chunk_path(self, rel: str) -> Path:
+        """OUT/chunks/<relpath>.jsonl."""
+        return self.chunks / (rel + ".jsonl")
+
+    def _ids_in_chunk_file(self, rel: str) -> list[str]:
+        try:
+            with open(self.chunk_path(rel), "rb") as fh:
+                return [json.loads(line)["id"] for line in fh if line.strip()]
+        except (OSError, ValueError, KeyError, TypeError):
+            return []
+
+
+class SourceMissing(RuntimeError):
+    """SRC is gone or not a folder: nothing is deleted from OUT (RELIABILITY W9)."""
+
+
+@dataclass(slots=True)
+class _Group:
+    """Work of one store transaction, not yet durable."""
+
+    entries: list[FeedEntry] = field(default_factory=list)
+    rows: list[FileState] = field(default_factory=list)
+    gone: list[str] = field(default_factory=list)
+    dirs: set[Path] = field(default_factory=set)
+    started: float = field(default_factory=time.monotonic)
+
+    def empty(self) -> bool:
+        return not (self.entries or self.rows or self.gone)
+
+    def due(self) -> bool:
+        size = len(self.rows) + len(self.gone)
+        return size >= GROUP_FILES or (size > 0 and time.monotonic() - self.started >= GROUP_SECONDS)

@@ -1,0 +1,374 @@
+"""Follow edits: watchdog observer -> queue -> settled batches -> `Syncer.sync_paths`.
+
+- The watchdog handler only puts raw events on a queue (nothing in it can raise), and events
+  are turned into path hints in the consumer: a move counts for both its source and its
+  destination, so editors' save-by-rename and moves onto a tracked path are seen (W3).
+- A queue overflow (watchdog logs it; it gives the handler no event) and a dead observer
+  thread both lead to a full reconcile, never to silently missed edits (W1, W10).
+- Decisions are made from a re-stat when the batch runs, after the quiet period, so vim's
+  rename-to-backup dance or a delete-then-create is not seen as a deletion (W4).
+- `sync(timeout)` is a cookie barrier (W11): it creates a file at the root and waits until the
+  batch holding that file's event has been processed, so every earlier write is reflected.
+"""
+
+from __future__ import annotations
+
+import logging
+import os
+import queue
+import threading
+import time
+import uuid
+from collections.abc import Callable, Sequence
+from pathlib import Path
+from typing import Any
+
+from watchdog.events import FileSystemEvent, FileSystemEventHandler
+from watchdog.observers import Observer
+from watchdog.observers.polling import PollingObserver
+
+from segment.settings import Settings
+
+from daemon.batching import FULL, Batch, Change, batches
+from daemon.scope import COOKIE_PREFIX, Scope, is_litter
+from daemon.sync import SourceMissing, SyncReport, Syncer
+
+log = logging.getLogger(__name__)
+
+RESCAN_S = 600.0
+"""A full reconcile runs this often while watching, as a net under any missed event."""
+OVERFLOW_LOGGER = "watchdog.observers.inotify_c"
+_IGNORED_TYPES = frozenset({"opened", "closed_no_write"})
+
+
+class _Enqueue(FileSystemEventHandler):
+    """The observer's only handler: put the raw event on a queue; never raise."""
+
+    def __init__(self, events: queue.Queue[FileSystemEvent | Change]) -> None:
+        self.events = events
+
+    def dispatch(self, event: FileSystemEvent) -> None:
+        try:
+            self.events.put_nowait(event)
+        except Exception:  # noqa: BLE001 - an exception here would kill the observer thread
+            pass
+
+
+class _OverflowAlarm(logging.Handler):
+    """Turns watchdog's 'queue overflowed' log line into a full-reconcile request (W1)."""
+
+    def __init__(self, events: queue.Queue[FileSystemEvent | Change]) -> None:
+        super().__init__(logging.WARNING)
+        self.events = events
+        self.count = 0
+
+    def emit(self, record: logging.LogRecord) -> None:
+        if "overflow" in record.getMessage().lower():
+            self.count += 1
+            self.events.put_nowait(FULL)
+
+
+def changes_of(event: FileSystemEvent, scope: Scope) -> list[Change]:
+    """Path hints of one watchdog event (routed by both src_path and dest_path)."""
+    if event.event_type in _IGNORED_TYPES:
+        return []
+    out: list[Change] = []
+    for raw in (event.src_path, getattr(event, "dest_path", "")):
+        if not raw:
+            continue
+        rel = scope.rel(raw)
+        if not rel or scope.in_out(rel):
+            continue
+        name = rel.rsplit("/", 1)[-1]
+        if "/" not in rel and name.startswith(COOKIE_PREFIX):
+            out.append(Change("cookie", name[len(COOKIE_PREFIX):]))
+        elif event.is_directory:
+            if event.event_type != "modified" and event.event_type != "attrib":
+                out.append(Change("folder", rel))
+        elif not is_litter(name) and scope.file_wanted(rel):
+            out.append(Change("file", rel))
+    return out
+
+
+class _QueueSource:
+    """The live event source for `batches()`."""
+
+    def __init__(self, events: queue.Queue[FileSystemEvent | Change], scope: Scope) -> None:
+        self.events = events
+        self.scope = scope
+
+    def get(self, timeout: float) -> Sequence[Change] | None:
+        try:
+            item = self.events.get(timeout=timeout)
+        except queue.Empty:
+            return None
+        if isinstance(item, Change):
+            return [item]
+        try:
+            return changes_of(item, self.scope)
+        except Exception:  # noqa: BLE001 - a strange event means: look everywhere
+            log.exception("could not read a file-system event; running a full reconcile")
+            return [FULL]
+
+
+def watch_limit_exceeded(src: Path) -> bool:
+    """True when SRC has more folders than inotify may watch (W2; watchdog is silent then)."""
+    try:
+        limit = int(Path("/proc/sys/fs/inotify/max_user_watches").read_text().strip())
+    except (OSError, ValueError):
+        return False
+    folders = 0
+    stack = [str(src)]
+    while stack:
+        folder = stack.pop()
+        folders += 1
+        if folders > limit * 0.9:
+            return True
+        try:
+            stack += [e.path for e in os.scandir(folder) if e.is_dir(follow_symlinks=False)]
+        except OSError:
+            continue
+    return False
+
+
+class WatchLoop:
+    """Runs the observer and the batch loop around one `Syncer`."""
+
+    def __init__(self, syncer: Syncer, *, quiet_s: float = 0.2, rescan_s: float = RESCAN_S,
+                 clock: Callable[[], float] = time.monotonic) -> None:
+        self.syncer = syncer
+        self.quiet_s = quiet_s
+        self.rescan_s = rescan_s
+        self.clock = clock
+        self.events: queue.Queue[FileSystemEvent | Change] = queue.Queue()
+        self.alarm = _OverflowAlarm(self.events)
+        self.observer: Any = None
+        self.degraded = ""
+        self.report = SyncReport()
+        """Counts summed over every pass since start."""
+        self.observer_restarts = 0
+        self._waiters: dict[str, threading.Event] = {}
+        self._waiters_lock = threading.Lock()
+        self._last_full = 0.0
+
+    # -- lifecycle -------------------------------------------------------------------------
+
+    def start(self) -> SyncReport:
+        """Start watching, then run the initial reconcile (edits made meanwhile are queued)."""
+        logging.getLogger(OVERFLOW_LOGGER).addHandler(self.alarm)
+        self._start_observer()
+        return self._full("initial reconcile")
+
+    def close(self) -> None:
+        """Stop the observer and detach the overflow alarm."""
+        logging.getLogger(OVERFLOW_LOGGER).removeHandler(self.alarm)
+        if self.observer is not None:
+            self.observer.stop()
+            if self.observer.is_alive():
+                self.observer.join(5)
+            self.observer = None
+        self._set_meta(degraded="")
+
+    def _start_observer(self) -> None:
+        src = str(self.syncer.src)
+        polling = watch_limit_exceeded(self.syncer.src)
+        observer: Any = PollingObserver(timeout=1.0) if polling else Observer()
+        try:
+            observer.schedule(_Enqueue(self.events), src, recursive=True)
+            observer.start()
+        except OSError as exc:
+            log.warning("cannot watch %s with inotify (%s); falling back to polling", src, exc)
+            polling = True
+            observer = PollingObserver(timeout=1.0)
+            observer.schedule(_Enqueue(self.events), src, recursive=True)
+            observer.start()
+        if polling:
+            log.warning("watching %s by polling: raise fs.inotify.max_user_watches "
+                        "(sysctl) to get instant updates", src)
+        self.observer = observer
+        self.degraded = "watch_limit" if polling else ""
+        self._set_meta(degraded=self.degraded)
+
+    # -- the loop --------------------------------------------------------------------------
+
+    def run(self, stop: Callable[[], bool]) -> None:
+        """Process batches until `stop()` is true; the batch in progress is always finished."""
+        source = _QueueSource(self.events, self.syncer.scope)
+        max_wait = max(10 * self.quiet_s, 1.0)
+        for batch in batches(source, self.clock, quiet_s=self.quiet_s, max_wait_s=max_wait,
+                             stop=stop, idle=self._supervise):
+            self.process(batch)
+
+    def process(self, batch: Batch) -> None:
+        """Run one batch through the syncer and release the barriers it carries."""
+        try:
+            if batch.full:
+                self._full("full reconcile")
+            elif batch.files or batch.folders:
+                report = self.syncer.sync_paths(batch.files, batch.folders)
+                self.report.merge(report)
+                log.info("%s", report.line("batch"))
+        except SourceMissing as exc:
+            if self.degraded != "root_missing":
+                log.error("%s; paused until it is back", exc)
+            self.degraded = "root_missing"
+            self._set_meta(degraded=self.degraded)
+        self._release(batch.cookies)
+
+    def _full(self, what: str) -> SyncReport:
+        cookies = self._cookies_on_disk()
+        self._last_full = self.clock()
+        report = self.syncer.reconcile()
+        self.report.merge(report)
+        log.info("%s", report.line(what))
+        self._release(cookies)
+        return report
+
+    def _supervise(self) -> Sequence[Change]:
+        """Idle-time checks: dead observer, returning root, periodic rescan."""
+        if self.degraded == "root_missing":
+            if not self.syncer.src.is_dir():
+                return ()
+            log.warning("%s is back; resuming", self.syncer.src)
+            self._restart_observer()
+            return [FULL]
+        if self.observer is not None and not self.observer.is_alive():
+            log.error("the file watcher thread died; restarting it and rescanning everything")
+            self.observer_restarts += 1
+            self._bump("observer_restarts")
+            self._restart_observer()
+            return [FULL]
+        if self.alarm.count:
+            log.warning("inotify queue overflowed: events were lost; rescanning everything")
+            for _ in range(self.alarm.count):
+                self._bump("overflow_recrawls")
+            self.alarm.count = 0
+        if self.clock() - self._last_full >= self.rescan_s:
+            return [FULL]
+        return ()
+
+    def _restart_observer(self) -> None:
+        try:
+            if self.observer is not None:
+                self.observer.stop()
+        except Exception:  # noqa: BLE001 - it is being replaced anyway
+            pass
+        self._start_observer()
+
+    # -- barrier ---------------------------------------------------------------------------
+
+    def sync(self, timeout: float = 30.0) -> None:
+        """Return once every file operation made before this call is reflected in OUT."""
+        token = uuid.uuid4().hex
+        done = threading.Event()
+        with self._waiters_lock:
+            self._waiters[token] = done
+        cookie = self.syncer.src / f"{COOKIE_PREFIX}{token}"
+        try:
+            cookie.touch()
+            if not done.wait(timeout):
+                raise TimeoutError(f"watcher did not catch up within {timeout} s")
+        finally:
+            with self._waiters_lock:
+                self._waiters.pop(token, None)
+            try:
+                cookie.unlink()
+            except OSError:
+                pass
+
+    def _cookies_on_disk(self) -> list[str]:
+        try:
+            names = os.listdir(self.syncer.src)
+        except OSError:
+            return []
+        return [n[len(COOKIE_PREFIX):] for n in names if n.startswith(COOKIE_PREFIX)]
+
+    def _release(self, tokens: list[str]) -> None:
+        with self._waiters_lock:
+            for token in tokens:
+                waiter = self._waiters.get(token)
+                if waiter is not None:
+                    waiter.set()
+
+    # -- counters in the store (read by `segment status`) -----------------------------------
+
+    def _bump(self, key: str) -> None:
+        with self.syncer.store.transaction():
+            self.syncer.store.bump(key)
+
+    def _set_meta(self, **values: object) -> None:
+        with self.syncer.store.transaction():
+            for key, value in values.items():
+                self.syncer.store.set_meta(key, value)
+
+
+class Watcher:
+    """Watch SRC into OUT on a background thread (for tests and embedding).
+
+    `with Watcher(src, out, settings) as w:` runs the initial reconcile on entry, then follows
+    edits; `w.sync(timeout)` waits until earlier edits are reflected; leaving the block finishes
+    the current batch and stops.
+    """
+
+    def __init__(self, src: Path, out: Path, settings: Settings | None = None, *, jobs: int = 1,
+                 quiet_ms: int = 200, rescan_s: float = RESCAN_S) -> None:
+        self.src, self.out = Path(src), Path(out)
+        self.settings = settings or Settings()
+        self.jobs = jobs
+        self.quiet_s = quiet_ms / 1000
+        self.rescan_s = rescan_s
+        self._stop = threading.Event()
+        self._thread: threading.Thread | None = None
+        self._error: BaseException | None = None
+        self.syncer: Syncer | None = None
+        self.loop: WatchLoop | None = None
+
+    def __enter__(self) -> Watcher:
+        self.syncer = Syncer(self.src, self.out, self.settings, jobs=self.jobs)
+        try:
+            self.loop = WatchLoop(self.syncer, quiet_s=self.quiet_s, rescan_s=self.rescan_s)
+            self.loop.start()
+        except BaseException:
+            if self.loop is not None:
+                self.loop.close()
+            self.syncer.close()
+            raise
+        self._thread = threading.Thread(target=self._run, name="docsegment-watch", daemon=True)
+        self._thread.start()
+        return self
+
+    def _run(self) -> None:
+        assert self.loop is not None
+        try:
+            self.loop.run(self._stop.is_set)
+        except BaseException as exc:  # noqa: BLE001 - surfaced by sync() and __exit__
+            self._error = exc
+            log.exception("watch loop stopped")
+
+    def sync(self, timeout: float = 30.0) -> None:
+        """Barrier: every file operation made before this call is reflected in OUT on return."""
+        assert self.loop is not None
+        if self._error is not None:
+            raise RuntimeError("watch loop stopped") from self._error
+        self.loop.sync(timeout)
+        if self._error is not None:
+            raise RuntimeError("watch loop stopped") from self._error
+
+    @property
+    def report(self) -> SyncReport:
+        """Counts summed over every pass since the watcher started."""
+        assert self.loop is not None
+        return self.loop.report
+
+    def __exit__(self, *exc: object) -> None:
+        self._stop.set()
+        if self._thread is not None:
+            self._thread.join(60)
+        try:
+            if self.loop is not None:
+                self.loop.close()
+        finally:
+            if self.syncer is not None:
+                self.syncer.close()
+        if self._error is not None and exc[0] is None:
+            raise RuntimeError("watch loop stopped") from self._error
