@@ -14,8 +14,9 @@ from segment.tokens import CallableCounter, EstimateCounter, TokenizerFileCounte
     ("text", "expected"),
     [
         ("the", 1),  # a short word is one token
-        ("configuration", 3),  # one per started 6 letters
-        ("2024", 2),  # one per started 3 digits
+        ("configuration", 3),  # 1 for the first 5 letters, 1 per started 5 after
+        ("OpenTelemetry", 4),  # an inner capital adds one
+        ("2024", 2),  # one per started 2 digits
         ("a, b.", 4),  # punctuation counts one each
         ("日本語", 3),  # letters outside Latin scripts count one each
         ("", 0),
