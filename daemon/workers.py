@@ -304,8 +304,10 @@ class WorkerPool:
             self._start_failures += 1
             if self._start_failures >= MAX_START_FAILURES:
                 raise WorkerStartError(
-                    f"worker processes exit at start (exit code {code}); is memory_mb="
-                    f"{self.settings.memory_mb} too small to load the parsers?"
+                    f"worker processes exit at start (exit code {code}; see the error above). "
+                    "A script that starts docsegment must guard its entry point with "
+                    "`if __name__ == '__main__':` (worker processes re-import it), and "
+                    f"memory_mb={self.settings.memory_mb} must leave room to load the parsers"
                 )
             return None
         status, reason = classify_exit(code)

@@ -1,0 +1,219 @@
+"""Incremental builds: what is re-segmented, what the feed says, what stays on disk."""
+
+from __future__ import annotations
+
+import json
+import logging
+import os
+from pathlib import Path
+
+import pytest
+
+from daemon import OutputBusy, Syncer, read_status, reconcile, replay
+from daemon.commands import run_build, run_status
+from segment.settings import Settings
+from tests.daemon_helpers import (
+    assert_feed_matches,
+    chunk_files,
+    current_ids,
+    feed,
+    page,
+    sections_page,
+    tree_of,
+    write,
+)
+
+
+@pytest.fixture
+def src(tmp_path: Path) -> Path:
+    root = tmp_path / "docs"
+    tree_of(6, root)
+    return root
+
+
+def test_first_build_writes_one_chunk_file_per_page_and_announces_every_id(src: Path, tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    report = reconcile(src, out)
+    assert report.parsed == 6 and not report.failed
+    assert sorted(chunk_files(out)) == sorted(f"area{i % 3}/page{i}.md.jsonl" for i in range(6))
+    # DESIGN.md section 4: `source` is the POSIX path relative to the source root.
+    assert set(current_ids(out).values()) == {f"area{i % 3}/page{i}.md" for i in range(6)}
+    assert all(e["op"] == "upsert" for e in feed(out))
+    assert_feed_matches(out)
+    assert os.getpid() not in report.parse_pids  # RELIABILITY P5: parsing runs in other processes
+
+
+def test_a_second_build_of_an_unchanged_tree_re_segments_nothing_and_says_so(
+        src: Path, tmp_path: Path, caplog: pytest.LogCaptureFixture) -> None:
+    out = tmp_path / "out"
+    assert run_build(src, out, Settings()) == 0
+    before, seq = chunk_files(out), read_status(out).last_seq  # type: ignore[union-attr]
+    caplog.set_level(logging.INFO, logger="daemon")
+    assert run_build(src, out, Settings()) == 0
+    assert "re-segmented 0 files" in caplog.text
+    assert chunk_files(out) == before
+    assert read_status(out).last_seq == seq  # type: ignore[union-attr]
+
+
+def test_touching_every_file_re_segments_nothing(src: Path, tmp_path: Path) -> None:
+    # RELIABILITY (c) 6: `touch` every file: 0 re-parses and 0 changed chunks.
+    out = tmp_path / "out"
+    reconcile(src, out)
+    for path in src.rglob("*.md"):
+        os.utime(path, ns=(path.stat().st_atime_ns, path.stat().st_mtime_ns + 5_000_000_000))
+    report = reconcile(src, out)
+    assert report.parsed == 0 and report.added == report.removed == 0
+
+
+def test_a_same_size_rewrite_with_the_old_mtime_restored_is_caught(src: Path, tmp_path: Path) -> None:
+    # RELIABILITY W7 (git t0010-racy-git.sh, done with os.utime as libgit2/JGit do).
+    out = tmp_path / "out"
+    target = src / "area0" / "page0.md"
+    write(target, page("Spare parts", "Order spare rotors in pairs."))
+    reconcile(src, out)
+    st = target.stat()
+    write(target, page("Spare parts", "Order spare motors in packs."))
+    os.utime(target, ns=(st.st_atime_ns, st.st_mtime_ns))
+    assert target.stat().st_size == st.st_size and target.stat().st_mtime_ns == st.st_mtime_ns
+    report = reconcile(src, out)
+    assert report.parsed == 1
+    assert b"spare motors in packs" in chunk_files(out)["area0/page0.md.jsonl"]
+
+
+def test_a_deleted_page_gets_a_delete_per_id_and_loses_its_chunk_file(src: Path, tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    reconcile(src, out)
+    gone = [i for i, s in current_ids(out).items() if s == "area1/page1.md"]
+    (src / "area1" / "page1.md").unlink()
+    (src / "area1" / "page4.md").unlink()
+    report = reconcile(src, out)
+    assert report.deleted == 2
+    deletes = [e["id"] for e in feed(out) if e["op"] == "delete" and e["source"] == "area1/page1.md"]
+    assert sorted(deletes) == sorted(gone)
+    assert not (out / "chunks" / "area1").exists()  # emptied folders go too
+    assert_feed_matches(out)
+
+
+def test_an_edit_announces_only_the_ids_that_changed(tmp_path: Path) -> None:
+    src, out = tmp_path / "docs", tmp_path / "out"
+    write(src / "handbook.md", sections_page(40))
+    reconcile(src, out, Settings(max_tokens=64, min_tokens=0))
+    old = {i: r for i, r in _records(out, "handbook.md").items()}
+    seq = read_status(out).last_seq  # type: ignore[union-attr]
+    write(src / "handbook.md", sections_page(40, edited=17))
+    reconcile(src, out, Settings(max_tokens=64, min_tokens=0))
+    new = _records(out, "handbook.md")
+    entries = [e for e in feed(out) if e["seq"] > seq]
+    deleted = {e["id"] for e in entries if e["op"] == "delete"}
+    upserted = {e["id"] for e in entries if e["op"] == "upsert"}
+    assert len(old) >= 40
+    # Only chunks holding the edited paragraph change id: DESIGN.md section 4 (id = hash of
+    # source, breadcrumb and text, never position).
+    assert deleted and deleted == set(old) - set(new)
+    assert upserted and upserted == set(new) - set(old)
+    assert all("step 17 of" in old[i]["text"] for i in deleted)
+    assert all("second signature" in new[i]["text"] for i in upserted)
+    assert len(set(old) & set(new)) == len(old) - len(deleted)
+
+
+def _records(out: Path, source: str) -> dict[str, dict[str, object]]:
+    lines = (out / "chunks" / f"{source}.jsonl").read_text(encoding="utf-8").splitlines()
+    return {r["id"]: r for r in map(json.loads, lines)}
+
+
+def test_a_failing_file_keeps_its_last_good_chunks_and_gets_an_error_entry(
+        tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    src, out = tmp_path / "docs", tmp_path / "out"
+    settings = Settings(max_file_bytes=4000)
+    write(src / "ok.md", page("Geofences"))
+    write(src / "grows.md", page("Flight logs"))
+    assert run_build(src, out, settings) == 0
+    good = chunk_files(out)["grows.md.jsonl"]
+    write(src / "grows.md", page("Flight logs", "Log every flight. " * 400))  # over the byte cap
+    assert run_build(src, out, settings) == 1
+    assert chunk_files(out)["grows.md.jsonl"] == good
+    errors = [e for e in feed(out) if e["op"] == "error"]
+    assert [(e["source"], e["error"].split(":")[0]) for e in errors] == [("grows.md", "resource_limit")]
+    assert "grows.md: resource_limit" in capsys.readouterr().err
+    assert read_status(out).failed[0][:2] == ("grows.md", "resource_limit")  # type: ignore[union-attr]
+    assert_feed_matches(out)
+    write(src / "grows.md", page("Flight logs", "Log every flight."))
+    assert run_build(src, out, settings) == 0
+    assert read_status(out).failed == []  # type: ignore[union-attr]
+
+
+def test_changing_settings_that_shape_chunks_re_segments_every_file(src: Path, tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    reconcile(src, out)
+    assert reconcile(src, out, Settings(max_tokens=300)).parsed == 6
+    assert reconcile(src, out, Settings(max_tokens=300, timeout_s=30)).parsed == 0  # limits don't
+
+
+def test_full_rebuild_re_segments_everything_but_announces_nothing_new(src: Path, tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    reconcile(src, out)
+    before = chunk_files(out)
+    report = reconcile(src, out, full=True)
+    assert report.parsed == 6 and report.added == report.removed == 0
+    assert chunk_files(out) == before
+
+
+def test_scope_excludes_secrets_editor_litter_our_output_and_links_out_of_the_root(tmp_path: Path) -> None:
+    src = tmp_path / "docs"
+    write(src / "guide.md", page("Pilot roles"))
+    write(src / "node_modules" / "pkg" / "readme.md", page("Vendored"))  # Settings.exclude default
+    write(src / "drafts" / "wip.md", page("Draft"))
+    write(src / ".#guide.md", page("Emacs lock"))
+    write(src / "guide.md~", page("Backup"))
+    write(tmp_path / "outside" / "secret.md", page("Outside"))
+    (src / "link-out.md").symlink_to(tmp_path / "outside" / "secret.md")
+    (src / "loop").symlink_to(src)  # a folder symlink loop (RELIABILITY W13)
+    (src / "link-in.md").symlink_to(src / "guide.md")
+    out = src / "_out"  # OUT inside SRC is never read back (W14)
+    settings = Settings(exclude=Settings().exclude + ("drafts/",))
+    reconcile(src, out, settings)
+    assert sorted(chunk_files(out)) == ["guide.md.jsonl", "link-in.md.jsonl"]
+    assert reconcile(src, out, settings).scanned == 2
+
+
+def test_include_patterns_limit_the_tree(src: Path, tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    reconcile(src, out, Settings(include=("area1/",)))
+    assert sorted(chunk_files(out)) == ["area1/page1.md.jsonl", "area1/page4.md.jsonl"]
+
+
+def test_a_second_writer_is_refused_with_a_clear_message(
+        src: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    out = tmp_path / "out"
+    with Syncer(src, out, Settings()):
+        with pytest.raises(OutputBusy, match="another docsegment build or watch"):
+            Syncer(src, out, Settings())
+        assert run_build(src, out, Settings()) == 1
+    assert f"pid {os.getpid()}" in capsys.readouterr().err
+
+
+def test_a_corrupt_store_is_rebuilt_by_reconcile_and_the_feed_stays_consistent(src: Path, tmp_path: Path) -> None:
+    out, fresh = tmp_path / "out", tmp_path / "fresh"
+    reconcile(src, out)
+    (src / "area2" / "page2.md").unlink()
+    write(src / "area0" / "page3.md", page("Firmware updates", "Flash the new image."))
+    (out / "state.sqlite3").write_bytes(b"\x00garbage" * 512)
+    reconcile(src, out)
+    reconcile(src, fresh, full=True)
+    assert chunk_files(out) == chunk_files(fresh)
+    assert_feed_matches(out)
+    assert read_status(out).counters["rebuilt_state"] == 1  # type: ignore[union-attr]
+
+
+def test_status_prints_counts_failures_and_seq(src: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    out = tmp_path / "out"
+    assert run_status(out) == 1
+    assert "no docsegment state" in capsys.readouterr().err
+    reconcile(src, out)
+    assert run_status(out) == 0
+    text = capsys.readouterr().out
+    assert "files:     6" in text and f"last seq:  {len(replay(out))}" in text
+    assert run_status(out, as_json=True) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["files"] == 6 and data["failed"] == [] and data["degraded"] is None
+    assert data["chunks"] == len(current_ids(out))
