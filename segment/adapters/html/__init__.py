@@ -1,0 +1,39 @@
+"""HTML -> common tree: main content only, boilerplate dropped, tables by the HTML table model.
+
+The pipeline, one module per step:
+`decode` (sniff binary content, find the charset, re-encode as UTF-8) -> `dom` (lxml's HTML
+parser from bytes, with flattening and beautifulsoup4 fallbacks) -> `clean` (drop boilerplate,
+mark `<br>`/`<img alt>`, choose the main content) -> `walk` (sections and blocks; `tables` for
+the table model). The document title is the first `h1` of the main content, else `<title>`.
+"""
+
+from __future__ import annotations
+
+from lxml import etree
+
+from segment.adapters.html.clean import clean
+from segment.adapters.html.decode import decode
+from segment.adapters.html.dom import parse_tree
+from segment.adapters.html.walk import Walker
+from segment.errors import ParseError
+from segment.tree import Document, finish_spans
+
+
+def parse(data: bytes, source: str) -> Document:
+    """Parse HTML bytes into a Document."""
+    decoded = decode(data, source)
+    doc = Document(source=source, format="html", warnings=decoded.warnings)
+    try:
+        root = parse_tree(decoded.data, doc.warnings)
+        if root is None:
+            return doc
+        cleaned = clean(root)
+        if cleaned.main is None:
+            return doc
+        walker = Walker(doc, cleaned.main)
+        walker.run()
+    except etree.LxmlError as exc:
+        raise ParseError(source, f"HTML could not be read: {exc}") from exc
+    doc.title = walker.first_h1 or cleaned.title
+    finish_spans(doc.root)
+    return doc

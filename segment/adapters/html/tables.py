@@ -1,0 +1,189 @@
+"""HTML tables -> `Table` nodes, by the HTML standard's table processing model.
+
+"Forming a table" (HTML Living Standard, section 4.9.12.1): rows are read from `thead`, `tbody`
+and bare `tr` children in order, `tfoot` groups last; `colspan` is 1..1000 (0 or junk means 1),
+`rowspan` is 0..65534 where 0 grows the cell to the end of its row group; a cell that spans
+past the last row of its group lengthens the table. Every slot a cell covers gets the cell's
+text, so each row carries all its cells. Header rows are the `thead` rows, else the leading
+rows made only of `th` cells. Nested tables are flattened into their cell's text.
+
+Navigation and layout tables: `role="presentation"`/`"none"` tables are layout and their cells
+are read as ordinary content; tables whose `summary`/`aria-label` says navigation, or that look
+like a bar of links (at most 3 rows, every non-empty cell short, and links in at least half of
+them, with no `thead` or `caption`), are navigation and dropped.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+from lxml import etree
+
+from segment.adapters.html.tags import tag_of
+from segment.adapters.html.text import flat_text, line_range, text_of
+from segment.tree import Row, Span, Table
+
+MAX_COLSPAN = 1000
+MAX_ROWSPAN = 65534
+_NAV_WORDS = re.compile(r"navigat", re.IGNORECASE)
+_DIGITS = re.compile(r"\s*(\d+)")
+
+
+@dataclass(slots=True)
+class _Cell:
+    text: str
+    header: bool
+    span: Span
+
+
+@dataclass(slots=True)
+class _Grid:
+    rows: list[list[_Cell | None]] = field(default_factory=list)
+    row_spans: list[Span] = field(default_factory=list)
+    head_rows: int = 0
+    width: int = 0
+
+    def ensure(self, y: int, x: int, span: Span) -> None:
+        while len(self.rows) <= y:
+            self.rows.append([])
+            self.row_spans.append(span)
+        row = self.rows[y]
+        if len(row) <= x:
+            row.extend([None] * (x + 1 - len(row)))
+        self.width = max(self.width, x + 1)
+
+
+def table_kind(el: etree._Element) -> str:
+    """"layout", "navigation" or "data"."""
+    role = (el.get("role") or "").lower()
+    if role in ("presentation", "none"):
+        return "layout"
+    label = (el.get("summary") or "") + " " + (el.get("aria-label") or "")
+    if _NAV_WORDS.search(label) or role == "navigation":
+        return "navigation"
+    if _looks_like_link_bar(el):
+        return "navigation"
+    return "data"
+
+
+def _looks_like_link_bar(el: etree._Element) -> bool:
+    rows = list(_iter_rows(el))
+    if not rows or len(rows) > 3 or el.find("thead") is not None or el.find("caption") is not None:
+        return False
+    cells = [c for r in rows for c in r if flat_text(c)]
+    if not cells:
+        return False
+    if any(len(flat_text(c).split()) > 8 for c in cells):
+        return False
+    linked = sum(1 for c in cells if c.find(".//a[@href]") is not None)
+    return linked * 2 >= len(cells) and linked >= 2
+
+
+def _iter_rows(table: etree._Element):  # type: ignore[no-untyped-def]
+    for child in table:
+        tag = tag_of(child)
+        if tag == "tr":
+            yield [c for c in child if tag_of(c) in ("td", "th")]
+        elif tag in ("thead", "tbody", "tfoot"):
+            for tr in child:
+                if tag_of(tr) == "tr":
+                    yield [c for c in tr if tag_of(c) in ("td", "th")]
+
+
+def _span_number(value: str | None, default: int, low: int, high: int) -> int:
+    if value is None:
+        return default
+    m = _DIGITS.match(value)
+    if not m:
+        return default
+    n = int(m.group(1))
+    if n < low:
+        return default
+    return min(n, high)
+
+
+def build_table(el: etree._Element, caption: str | None = None) -> Table:
+    """The expanded grid of a data table."""
+    grid = _Grid()
+    groups: list[tuple[str, list[etree._Element]]] = []
+    pending_tfoot: list[list[etree._Element]] = []
+    loose: list[etree._Element] = []
+    for child in el:
+        tag = tag_of(child)
+        if tag == "tr":
+            loose.append(child)
+            continue
+        if loose:
+            groups.append(("tbody", loose))
+            loose = []
+        if tag == "caption":
+            if caption is None:
+                caption = flat_text(child) or None
+        elif tag in ("thead", "tbody"):
+            groups.append((tag, [tr for tr in child if tag_of(tr) == "tr"]))
+        elif tag == "tfoot":
+            pending_tfoot.append([tr for tr in child if tag_of(tr) == "tr"])
+    if loose:
+        groups.append(("tbody", loose))
+    groups.extend(("tfoot", rows) for rows in pending_tfoot)
+    y = 0
+    for index, (kind, rows) in enumerate(groups):
+        y = _process_group(grid, rows, y)
+        if index == 0 and kind == "thead":
+            grid.head_rows = y
+    rows_out: list[Row] = []
+    for cells, span in zip(grid.rows, grid.row_spans):
+        rows_out.append(Row([c.text if c else "" for c in cells] + [""] * (grid.width - len(cells)), span))
+    head = grid.head_rows
+    if head == 0:
+        for cells in grid.rows:
+            if cells and all(c is not None and c.header for c in cells) and len(cells) == grid.width:
+                head += 1
+            else:
+                break
+        if head == len(grid.rows):  # a table of header cells only: keep them as rows
+            head = 0
+    span_lines = line_range(el.sourceline, text_of(el.itertext()))
+    return Table(header=rows_out[:head], rows=rows_out[head:], caption=caption, span=Span(lines=span_lines))
+
+
+def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int:
+    """Place one row group's cells; return the first row index after the group."""
+    y = y_start
+    growing: list[tuple[int, int, int, _Cell]] = []  # (x, width, y_from, cell) for rowspan=0
+    group_end = y_start
+    for tr in rows:
+        lines = line_range(tr.sourceline, text_of(tr.itertext()))
+        row_span = Span(lines=lines)
+        grid.ensure(y, 0, row_span)
+        grid.row_spans[y] = row_span
+        for gx, gw, _, gcell in growing:
+            for x in range(gx, gx + gw):
+                grid.ensure(y, x, row_span)
+                grid.rows[y][x] = gcell
+        x = 0
+        for td in tr:
+            tag = tag_of(td)
+            if tag not in ("td", "th"):
+                continue
+            row = grid.rows[y]
+            while x < len(row) and row[x] is not None:
+                x += 1
+            colspan = _span_number(td.get("colspan"), 1, 1, MAX_COLSPAN)
+            rowspan = _span_number(td.get("rowspan"), 1, 0, MAX_ROWSPAN)
+            cell = _Cell(flat_text(td), tag == "th", Span(lines=line_range(td.sourceline, text_of(td.itertext()))))
+            height = 1 if rowspan == 0 else rowspan
+            for dy in range(height):
+                for dx in range(colspan):
+                    grid.ensure(y + dy, x + dx, row_span)
+                    if grid.rows[y + dy][x + dx] is None:
+                        grid.rows[y + dy][x + dx] = cell
+            if rowspan == 0:
+                growing.append((x, colspan, y, cell))
+            group_end = max(group_end, y + height)
+            x += colspan
+        y += 1
+        group_end = max(group_end, y)
+    # Cells spanning past the group's last row lengthen the table ("ending a row group").
+    return max(group_end, y)
