@@ -137,7 +137,7 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
         with open(task.abspath, "rb") as fh:
             out.hash = content_hash(fh.read())
         if hooks:
-            _misbehave(task.path)
+            _misbehave(task.path, settings.memory_mb)
         chunks = segment.chunk_file(task.abspath, settings, source=task.source)
         out.data = b"".join((c.to_json() + "\n").encode("utf-8", "replace") for c in chunks)
         out.ids = [c.id for c in chunks]
@@ -171,7 +171,7 @@ def content_hash(data: bytes) -> str:
     return hashlib.blake2b(data, digest_size=16).hexdigest()
 
 
-def _misbehave(path: str) -> None:
+def _misbehave(path: str, memory_mb: int) -> None:
     """Test hooks: crash, hang or exhaust memory on purpose, by file name."""
     if path.endswith(".crash.md"):
         os.abort()
@@ -183,7 +183,8 @@ def _misbehave(path: str) -> None:
         while True:
             pass
     if path.endswith(".oom.md"):
-        hoard = [bytearray(64 * 1024 * 1024) for _ in range(1 << 12)]  # up to 256 GiB
+        # Twice the address-space limit in one block: refused at once under RLIMIT_AS.
+        hoard = bytearray(max(memory_mb, 1 << 20) * 2 * 1024 * 1024)
         del hoard
 
 
