@@ -100,7 +100,7 @@ class Segmenter:
         out: list[Draft],
         title: str | None,
     ) -> None:
-        intro = self._intro_pieces(section)
+        intro = self._cached_intro(section)
         intro_tokens = sum(p.tokens for p in intro)
         children = [
             (child, self._child_crumb(crumb, child, title), child.heading.anchor if child.heading else anchor)
@@ -288,7 +288,10 @@ class Segmenter:
                 continue
             overlap = draft.extra.pop("overlap", None)
             text = f"{overlap}\n\n{body}" if isinstance(overlap, str) else body
-            tokens = self.counter.count(text)
+            if overlap is None and getattr(self.counter, "additive", False):
+                tokens = sum(p.tokens for p in draft.pieces if p.text)
+            else:
+                tokens = self.counter.count(text)
             if overlap is not None and tokens > self.settings.max_tokens:
                 text, tokens = body, self.counter.count(body)
             key = (*draft.breadcrumb, "\x1f", normalise_text(text))
