@@ -88,6 +88,8 @@ class Line:
     """Share of visible characters in a monospaced font."""
     flags: set[str] = field(default_factory=set)
     """Marks set by later stages (e.g. "running", "table")."""
+    payload: object | None = None
+    """A non-text item (a table) standing in the reading order in this line's place."""
 
     def finish(self) -> None:
         """Compute text and style summaries from the pieces."""

@@ -65,5 +65,19 @@ def find_running(pages: list[list[Line]], heights: list[float]) -> list[Line]:
         if seen >= threshold or (n_pages > 1 and outermost and is_page_number(line.text)):
             line.flags.add("running")
             removed.append(line)
+    # Running heads that change with each section (odd pages often carry the section title) sit
+    # in the same slot as the confirmed ones: same band, same height on the page, same size.
+    slots: dict[tuple[str, int, float], int] = defaultdict(int)
+    for zone, _, line, _ in candidates:
+        if "running" in line.flags:
+            slots[(zone, round(line.y0), round(line.size))] += 1
+    established = {k for k, n in slots.items() if n >= max(3, 0.2 * n_pages)}
+    for zone, _, line, _ in candidates:
+        if "running" in line.flags:
+            continue
+        y = round(line.y0)
+        if any((zone, y + d, round(line.size)) in established for d in (-1, 0, 1)):
+            line.flags.add("running")
+            removed.append(line)
     removed.sort(key=lambda ln: (ln.page, ln.y0))
     return removed

@@ -1,0 +1,187 @@
+"""PDF adapter (pymupdf 1.x): text, reading order, running heads, headings, lists, code, tables.
+
+`parse(data, source)` is the registry entry point; `parse_pdf` exposes the switches that tests and
+the benchmark use (`use_outline=False` measures the font-based heading detector on its own).
+pymupdf is not thread-safe: call this from one thread per process only.
+"""
+
+from __future__ import annotations
+
+import logging
+import time
+from dataclasses import dataclass, field
+
+import pymupdf
+
+from segment.adapters.pdf import blocks as blk
+from segment.adapters.pdf import headings, layout, running, tables
+from segment.adapters.pdf.build import build_tree
+from segment.adapters.pdf.extract import Line, page_lines
+from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
+from segment.errors import ParseError
+from segment.settings import Settings
+from segment.tree import Document
+
+__all__ = ["parse", "parse_pdf", "PdfTimings"]
+
+TABLE_ENGINES = ("own", "pymupdf", "none")
+
+
+@dataclass(slots=True)
+class PdfTimings:
+    """Seconds spent per stage of one parse (filled when a dict is passed to `parse_pdf`)."""
+
+    extract: float = 0.0
+    tables: float = 0.0
+    layout: float = 0.0
+    total: float = 0.0
+    table_pages: int = 0
+    stages: dict[str, float] = field(default_factory=dict)
+
+
+def parse(data: bytes, source: str) -> Document:
+    """Registry entry point: bytes of a PDF to the common tree."""
+    return parse_pdf(data, source)
+
+
+def parse_pdf(
+    data: bytes,
+    source: str,
+    *,
+    use_outline: bool = True,
+    max_pages: int | None = None,
+    table_engine: str = "own",
+    timings: PdfTimings | None = None,
+) -> Document:
+    """Parse a PDF. `table_engine`: "own" (rulings + aligned text), "pymupdf" (find_tables), "none"."""
+    if table_engine not in TABLE_ENGINES:
+        raise ValueError(f"table_engine must be one of {TABLE_ENGINES}, got {table_engine!r}")
+    limit = max_pages if max_pages is not None else Settings().max_pages
+    start = time.perf_counter()
+    doc, warnings = open_pdf(data, source, limit)
+    try:
+        document = _parse_open(doc, source, warnings, use_outline, table_engine, timings)
+    except ParseError:
+        raise
+    except (RuntimeError, ValueError) as exc:
+        raise ParseError(source, f"cannot read PDF content: {exc}", status="corrupt") from exc
+    finally:
+        doc.close()
+        count = flush_warnings(source)
+        if count:
+            log.info("%s: %d MuPDF warnings (debug log has them)", source, count)
+    if timings is not None:
+        timings.total = time.perf_counter() - start
+    return document
+
+
+def _parse_open(
+    doc: pymupdf.Document,
+    source: str,
+    warnings: list[str],
+    use_outline: bool,
+    table_engine: str,
+    timings: PdfTimings | None,
+) -> Document:
+    t0 = time.perf_counter()
+    pages: list[list[Line]] = []
+    heights: list[float] = []
+    no_text: list[int] = []
+    for index in range(doc.page_count):
+        page = doc[index]
+        heights.append(page.rect.height)
+        try:
+            lines = page_lines(page, index + 1)
+        except RuntimeError as exc:
+            warnings.append(f"page {index + 1}: cannot read text ({exc})")
+            lines = []
+        if not lines:
+            no_text.append(index + 1)
+            if page.get_images(full=False):
+                warnings.append(f"page {index + 1}: no text layer (OCR not performed)")
+        pages.append(lines)
+    if len(no_text) == doc.page_count:
+        raise ParseError(source, "no text layer on any page (OCR not performed)", status="no_text")
+    t1 = time.perf_counter()
+
+    removed = running.find_running(pages, heights)
+    table_time = 0.0
+    table_pages = 0
+    flows: list[blk.Item] = []
+    for index, lines in enumerate(pages):
+        body = [ln for ln in lines if "running" not in ln.flags]
+        if table_engine != "none" and body:
+            ts = time.perf_counter()
+            found, candidate = tables.find_page_tables(doc[index], index + 1, body, table_engine)
+            table_pages += int(candidate)
+            body = _place_tables(body, found)
+            table_time += time.perf_counter() - ts
+        for block in layout.order_page(body):
+            for part in blk.split_items(block) if block.payload is None else [block]:
+                flows.append(part)  # type: ignore[arg-type]
+    t2 = time.perf_counter()
+
+    all_lines = [ln for lines in pages for ln in lines if "running" not in ln.flags]
+    vocab = blk.vocabulary(all_lines)
+    items = [blk.classify(b, vocab) for b in flows]  # type: ignore[arg-type]
+    items = blk.merge_code(items)
+    stats = headings.font_stats(items)
+    headings.detect(items, stats)
+    meta = doc.metadata or {}
+    title_node = headings.title_item(items, meta.get("title"))
+    title = (meta.get("title") or "").strip() or None
+    if title_node is not None:
+        title_node.level = None
+        title_node.kind = "text"
+        title = title or title_node.text.strip()
+    toc = doc.get_toc(simple=True) if use_outline else []
+    unmatched = 0
+    if toc:
+        outline = [(int(lvl), str(t), int(p)) for lvl, t, p, *_ in toc]
+        items, unmatched = headings.apply_outline(items, outline, doc.page_count)
+    items = blk.merge_continuations(items, vocab)
+
+    document = Document(source=source, format="pdf", title=title)
+    document.warnings.extend(warnings)
+    document.metadata.update(
+        {
+            "pages": doc.page_count,
+            "removed_running_lines": len(removed),
+            "running_line_samples": sorted({" ".join(ln.text.split()) for ln in removed})[:12],
+            "body_font_size": stats.body_size,
+            "headings_from": "outline" if toc else "fonts",
+            "outline_entries": len(toc),
+            "outline_unmatched": unmatched,
+            "table_candidate_pages": table_pages,
+        }
+    )
+    if unmatched:
+        document.warnings.append(f"{unmatched} outline entries not found on their pages (inserted at page top)")
+    build_tree(document, items)
+    t3 = time.perf_counter()
+    if timings is not None:
+        timings.extract = t1 - t0
+        timings.tables = table_time
+        timings.layout = (t2 - t1 - table_time) + (t3 - t2)
+        timings.table_pages = table_pages
+    return document
+
+
+def _place_tables(lines: list[Line], found: list[tables.FoundTable]) -> list[Line]:
+    """Drop lines inside tables and put one stand-in line per table in the page flow."""
+    if not found:
+        return lines
+    kept: list[Line] = []
+    for ln in lines:
+        cx, cy = (ln.x0 + ln.x1) / 2, (ln.y0 + ln.y1) / 2
+        if any(t.bbox[0] - 1 <= cx <= t.bbox[2] + 1 and t.bbox[1] - 1 <= cy <= t.bbox[3] + 1 for t in found):
+            continue
+        kept.append(ln)
+    for t in found:
+        x0, y0, x1, y1 = t.bbox
+        stand_in = Line(t.page, x0, y0, x1, y1, [], -1000)
+        stand_in.flags.add("table")
+        stand_in.payload = t
+        stand_in.size = 0.0
+        kept.append(stand_in)
+    return kept

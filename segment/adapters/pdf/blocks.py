@@ -1,0 +1,232 @@
+"""Blocks in reading order classified as text, list item, code or table; text joined across lines.
+
+List items start with a bullet or a number and hang their following lines under the item text.
+Code is a run of lines set almost entirely in a monospaced font; its indentation is rebuilt from
+the x offsets. Words broken with a hyphen at a line end are joined back when the joined word is
+used elsewhere in the document, or when the hyphen is a soft hyphen (U+00AD).
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from statistics import median
+
+from segment.adapters.pdf.extract import Line
+from segment.adapters.pdf.layout import TextBlock
+
+_BULLET = re.compile(r"^\s*([•◦▪▫‣⁃∙●○■□►▸▹➢➤✓✔∗–—\-\*·])\s+(?=\S)")
+_NUMBERED = re.compile(r"^\s*(\(?(\d{1,3}|[a-z]|[ivx]{1,5})[.)])\s+(?=\S)")
+_WORD = re.compile(r"[^\W\d_]+")
+_ROMAN = {"i": 1, "v": 5, "x": 10}
+
+
+@dataclass(slots=True)
+class Item:
+    """One unit of the page flow."""
+
+    kind: str
+    """"text", "item" (list item), "code" or "table"."""
+    blocks: list[TextBlock]
+    text: str = ""
+    code_lines: list[str] = field(default_factory=list)
+    ordered: bool = False
+    number: int = 1
+    marker_x: float = 0.0
+    level: int | None = None
+    """Heading level once the heading stage has chosen this item."""
+    label: bool = False
+    """A chapter label ("CHAPTER ONE") that introduces the next heading."""
+
+    @property
+    def first(self) -> TextBlock:
+        """The first block."""
+        return self.blocks[0]
+
+    @property
+    def lines(self) -> list[Line]:
+        """All lines of the item."""
+        return [ln for b in self.blocks for ln in b.lines]
+
+    @property
+    def pages(self) -> tuple[int, int]:
+        """First and last page."""
+        return (self.blocks[0].page, self.blocks[-1].page)
+
+    @property
+    def size(self) -> float:
+        """Dominant font size over the item's characters."""
+        weights: dict[float, int] = {}
+        for ln in self.lines:
+            weights[ln.size] = weights.get(ln.size, 0) + len(ln.text)
+        return max(weights, key=lambda k: (weights[k], k)) if weights else 0.0
+
+    @property
+    def bold(self) -> float:
+        """Share of characters in bold."""
+        total = sum(len(ln.text.strip()) for ln in self.lines) or 1
+        return sum(ln.bold * len(ln.text.strip()) for ln in self.lines) / total
+
+    @property
+    def mono(self) -> float:
+        """Share of characters in a monospaced font."""
+        total = sum(len(ln.text.strip()) for ln in self.lines) or 1
+        return sum(ln.mono * len(ln.text.strip()) for ln in self.lines) / total
+
+
+def vocabulary(lines: list[Line]) -> set[str]:
+    """Lower-cased words of the document, to decide hyphen joins."""
+    words: set[str] = set()
+    for ln in lines:
+        words.update(w.lower() for w in _WORD.findall(ln.text))
+    return words
+
+
+def join_lines(lines: list[str], vocab: set[str]) -> str:
+    """Join text lines with spaces, repairing words hyphenated at the line ends."""
+    out = ""
+    for raw in lines:
+        text = raw.strip()
+        if not text:
+            continue
+        if not out:
+            out = text
+            continue
+        if out.endswith("\u00ad"):
+            out = out[:-1] + text
+        elif out.endswith(("-", "\u2010")) and len(out) > 1 and out[-2].isalpha() and text[:1].islower():
+            head = _WORD.findall(out[:-1])
+            tail = _WORD.findall(text)
+            joined = (head[-1] if head else "") + (tail[0] if tail else "")
+            if joined.lower() in vocab:
+                out = out[:-1] + text
+            else:
+                out = out + text
+        else:
+            out = out + " " + text
+    return out.replace("\u00ad", "")
+
+
+def _marker(text: str) -> tuple[str, bool, int] | None:
+    """(marker, ordered, number) when the text starts a list item."""
+    m = _BULLET.match(text)
+    if m:
+        return m.group(0), False, 1
+    m = _NUMBERED.match(text)
+    if m:
+        token = m.group(2)
+        if token.isdigit():
+            return m.group(0), True, int(token)
+        if len(token) == 1 and token not in "ivx":
+            return m.group(0), True, ord(token) - ord("a") + 1
+        return m.group(0), True, _roman(token)
+    return None
+
+
+def _roman(token: str) -> int:
+    total = prev = 0
+    for ch in reversed(token):
+        value = _ROMAN[ch]
+        total = total - value if value < prev else total + value
+        prev = max(prev, value)
+    return max(total, 1)
+
+
+def split_items(block: TextBlock) -> list[TextBlock]:
+    """Cut a block before every line that starts a list item at the block's marker position."""
+    parts: list[TextBlock] = []
+    marker_x: float | None = None
+    for line in block.lines:
+        marked = _marker(line.text) is not None
+        if not parts:
+            parts.append(TextBlock([line], block.column))
+            marker_x = line.x0 if marked else None
+        elif marked and marker_x is not None and abs(line.x0 - marker_x) <= 2.5:
+            parts.append(TextBlock([line], block.column))
+        elif marked and marker_x is None and _BULLET.match(line.text):
+            parts.append(TextBlock([line], block.column))
+            marker_x = line.x0
+        else:
+            parts[-1].lines.append(line)
+    return parts
+
+
+def classify(block: TextBlock, vocab: set[str]) -> Item:
+    """Decide what one block is and compute its text."""
+    if block.payload is not None:
+        return Item("table", [block])
+    lines = block.lines
+    chars = sum(len(ln.text.strip()) for ln in lines) or 1
+    mono = sum(ln.mono * len(ln.text.strip()) for ln in lines) / chars
+    if mono >= 0.8:
+        return Item("code", [block], code_lines=code_lines(lines))
+    marker = _marker(lines[0].text)
+    if marker is not None:
+        first = lines[0]
+        hanging = all(ln.x0 >= first.x0 + 1.5 for ln in lines[1:])
+        if hanging:
+            token, ordered, number = marker
+            body = [first.text.strip()[len(token.strip()):].strip()] + [ln.text for ln in lines[1:]]
+            return Item(
+                "item",
+                [block],
+                text=join_lines(body, vocab),
+                ordered=ordered,
+                number=number,
+                marker_x=first.x0,
+            )
+    return Item("text", [block], text=join_lines([ln.text for ln in lines], vocab))
+
+
+def code_lines(lines: list[Line]) -> list[str]:
+    """Code text with indentation rebuilt from x offsets (one space per character width)."""
+    widths = [
+        (p.x1 - p.x0) / len(p.text)
+        for ln in lines
+        for p in ln.pieces
+        if p.mono and len(p.text) >= 2 and p.x1 > p.x0
+    ]
+    char_w = median(widths) if widths else 5.0
+    left = min(ln.x0 for ln in lines)
+    out: list[str] = []
+    for ln in lines:
+        indent = int(round((ln.x0 - left) / char_w)) if char_w > 0 else 0
+        out.append(" " * max(0, min(indent, 80)) + ln.text.strip())
+    return out
+
+
+def merge_code(items: list[Item]) -> list[Item]:
+    """Join consecutive code items of one listing (separate blocks per line, page breaks)."""
+    out: list[Item] = []
+    for item in items:
+        if item.kind == "code" and out and out[-1].kind == "code":
+            prev = out[-1]
+            last = prev.blocks[-1]
+            first = item.first
+            same_page = last.page == first.page
+            gap = first.y0 - last.y1
+            size = max(prev.lines[-1].size, 1.0)
+            if (same_page and first.column == last.column and -1 <= gap < 2.5 * size) or (
+                not same_page and first.page == last.page + 1
+            ):
+                left = min(ln.x0 for ln in prev.lines + item.lines)
+                prev.blocks.append(first)
+                prev.code_lines = code_lines([ln for ln in prev.lines if ln.x0 >= left - 1])
+                continue
+        out.append(item)
+    return out
+
+
+def merge_continuations(items: list[Item], vocab: set[str]) -> list[Item]:
+    """Join a paragraph cut by a column or page break (no final stop, next starts lower-case)."""
+    out: list[Item] = []
+    for item in items:
+        if item.kind == "text" and out and out[-1].kind in ("text", "item") and out[-1].level is None:
+            prev = out[-1]
+            moved = prev.blocks[-1].page != item.first.page or prev.blocks[-1].column != item.first.column
+            if moved and item.level is None and prev.text and item.text[:1].islower() and prev.text[-1] not in ".:!?":
+                prev.blocks.append(item.first)
+                prev.text = join_lines([prev.text, item.text], vocab)
+                continue
+        out.append(item)
+    return out

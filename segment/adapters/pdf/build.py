@@ -1,0 +1,111 @@
+"""Items in reading order -> the common tree (sections, paragraphs, lists, code, tables)."""
+
+from __future__ import annotations
+
+from segment.adapters.pdf.blocks import Item
+from segment.adapters.pdf.tables import FoundTable
+from segment.tree import (
+    Code,
+    Document,
+    Heading,
+    ListBlock,
+    ListItem,
+    Paragraph,
+    Row,
+    SectionBuilder,
+    Span,
+    Table,
+    finish_spans,
+)
+
+
+def item_span(item: Item) -> Span:
+    """Pages of the item and the box of its first block."""
+    first, last = item.pages
+    box = tuple(round(v, 2) for v in item.first.bbox)
+    return Span(pages=(first, max(first, last)), bbox=box)  # type: ignore[arg-type]
+
+
+def table_node(found: FoundTable) -> Table:
+    """A found table as a tree node; every row keeps its page."""
+    pages = (found.page, found.page)
+    rows = [
+        Row(cells=list(cells), span=Span(pages=pages, bbox=tuple(round(v, 2) for v in box)))  # type: ignore[arg-type]
+        for cells, box in zip(found.rows, found.row_boxes)
+    ]
+    rows += [Row(cells=list(c), span=Span(pages=pages)) for c in found.rows[len(found.row_boxes):]]
+    header = [Row(cells=list(cells), span=Span(pages=pages)) for cells in found.header]
+    bbox = tuple(round(v, 2) for v in found.bbox)
+    return Table(header=header, rows=rows, span=Span(pages=pages, bbox=bbox))  # type: ignore[arg-type]
+
+
+def build_tree(document: Document, items: list[Item]) -> None:
+    """Fill `document.root` from the flow of items."""
+    builder = SectionBuilder(document.root)
+    open_list: list[tuple[float, ListBlock]] = []
+    for item in items:
+        if item.label:
+            continue
+        if item.level is not None:
+            open_list.clear()
+            span = item_span(item)
+            builder.open(Heading(text=item.text.strip(), level=item.level, anchor=_anchor(span), span=span))
+            continue
+        if item.kind == "item":
+            _add_item(builder, open_list, item)
+            continue
+        node = _node(item)
+        if node is None:
+            continue
+        if open_list and item.kind in ("text", "code") and item.first.x0 > open_list[-1][0] + 3:
+            # Indented under the last item: a further paragraph or code sample of that item.
+            owner = open_list[-1][1].items[-1]
+            owner.blocks.append(node)
+            owner.span = owner.span.merge(node.span)
+            open_list[-1][1].span = open_list[-1][1].span.merge(node.span)
+            continue
+        open_list.clear()
+        builder.add(node)
+    finish_spans(document.root)
+
+
+def _anchor(span: Span) -> str | None:
+    # PDF open parameters: "file.pdf#page=N" opens the page in common viewers.
+    return f"page={span.pages[0]}" if span.pages else None
+
+
+def _node(item: Item) -> Paragraph | Code | Table | None:
+    if item.kind == "table":
+        payload = item.first.payload
+        return table_node(payload) if isinstance(payload, FoundTable) else None
+    if item.kind == "code":
+        return Code(lines=list(item.code_lines), span=item_span(item))
+    if item.kind == "heading":
+        return None
+    text = item.text.strip()
+    return Paragraph(text=text, span=item_span(item)) if text else None
+
+
+def _add_item(builder: SectionBuilder, open_list: list[tuple[float, ListBlock]], item: Item) -> None:
+    span = item_span(item)
+    entry = ListItem(blocks=[Paragraph(text=item.text.strip(), span=span)], span=span)
+    x = item.marker_x
+    while open_list and x < open_list[-1][0] - 2.5:
+        open_list.pop()
+    if open_list and abs(x - open_list[-1][0]) <= 2.5 and open_list[-1][1].ordered == item.ordered:
+        lst = open_list[-1][1]
+        lst.items.append(entry)
+        lst.span = lst.span.merge(span)
+        return
+    if open_list and abs(x - open_list[-1][0]) <= 2.5:
+        open_list.pop()  # same indent, other kind of list: a new list
+    lst = ListBlock(items=[entry], ordered=item.ordered, start=item.number if item.ordered else 1, span=span)
+    if open_list and x > open_list[-1][0] + 2.5:
+        parent = open_list[-1][1]
+        parent.items[-1].blocks.append(lst)
+        parent.items[-1].span = parent.items[-1].span.merge(span)
+        parent.span = parent.span.merge(span)
+    else:
+        open_list.clear()
+        builder.add(lst)
+    open_list.append((x, lst))

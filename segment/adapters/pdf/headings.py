@@ -1,0 +1,343 @@
+"""Headings: from the document's own font statistics, or named and levelled by its outline.
+
+Font detector: the body size is the most used size of running text. A heading candidate is a
+short block that starts with its own line style: larger than the body, or bold at body size, not
+monospaced, not a caption. Numbering (`2`, `2.3`, `A.1`, `Chapter 4`) gives a level directly and
+teaches each style its level; styles without numbers are ranked by size below the styles above
+them. Outline mode matches every outline entry to a block on its page (or the next), so headings
+carry the outline's names and levels; entries with no match are inserted at the top of their page.
+"""
+
+from __future__ import annotations
+
+import re
+from collections import Counter
+from dataclasses import dataclass
+from difflib import SequenceMatcher
+
+from segment.adapters.pdf.blocks import Item
+from segment.adapters.pdf.layout import TextBlock
+
+MAX_LINES = 3
+MAX_CHARS = 160
+TITLE_TOP = 340.0
+"""A lone largest line above this y (points) on page 1 may be the document title."""
+
+_NUMBERING = re.compile(
+    r"^(?:(?P<num>\d{1,3}(?:\.\d{1,3})*)\.?|(?P<app>[A-Z](?:\.\d{1,3})+)\.?|(?P<rom>[IVX]{1,5})\.)\s+(?=\S)"
+)
+_LABEL = re.compile(r"^(chapter|appendix|part)(\s+[\w.]+)?\s*$", re.I)
+_LABEL_WORD = re.compile(r"^(chapter|appendix|part)$", re.I)
+_ADMONITION = {"note", "tip", "warning", "caution", "important", "hint", "danger", "attention"}
+_ENDS_NUMBER = re.compile(r"\s(\d{1,4}|[ivxlc]{1,6})$")
+_LABEL_PREFIX = re.compile(r"^(chapter|appendix|part)\s+[\w]+[.:]?\s+(?=\S)", re.I)
+_CAPTION = re.compile(r"^(figure|fig\.|table|listing|example|algorithm|equation)\s*[\dA-Z]+[.:]", re.I)
+_TOC_ENTRY = re.compile(r"((\.\s*){3,}|\s{2,}|\s)(\d{1,4}|[ivxlc]{1,6})$")
+_LETTERS = re.compile(r"[^\W\d_]", re.U)
+_NORM = re.compile(r"[\W_]+", re.U)
+
+
+@dataclass(slots=True, frozen=True)
+class FontStats:
+    """The body text's style, learned from the document."""
+
+    body_size: float
+    body_bold: bool
+
+
+def font_stats(items: list[Item]) -> FontStats:
+    """Most used size (by characters) of running text; whether that text is bold."""
+    sizes: Counter[float] = Counter()
+    bold = total = 0
+    for item in items:
+        if item.kind not in ("text", "item"):
+            continue
+        for ln in item.lines:
+            n = len(ln.text.strip())
+            sizes[ln.size] += n
+            total += n
+            bold += int(ln.bold * n)
+    if not sizes:
+        return FontStats(10.0, False)
+    body = max(sizes, key=lambda k: (sizes[k], -k))
+    return FontStats(body, total > 0 and bold / total > 0.6)
+
+
+def numbering(text: str) -> int | None:
+    """Depth of a leading section number: "2" -> 1, "2.3" -> 2, "A.1" -> 2, "Chapter 4" -> 1."""
+    if _LABEL_PREFIX.match(text):
+        return 1
+    m = _NUMBERING.match(text)
+    if not m:
+        return None
+    if m.group("rom"):
+        return 1
+    token = m.group("num") or m.group("app")
+    return token.count(".") + 1
+
+
+def is_label(item: Item) -> bool:
+    """A chapter label on its own ("CHAPTER ONE", "Appendix B")."""
+    return item.kind == "text" and bool(_LABEL.match(item.text.strip()))
+
+
+def is_candidate(item: Item, stats: FontStats) -> bool:
+    """Whether a text block looks like a heading by style and shape."""
+    if item.kind != "text" or len(item.first.lines) > MAX_LINES:
+        return False
+    text = item.text.strip()
+    if not text or len(text) > MAX_CHARS or not _LETTERS.search(text):
+        return False
+    if _CAPTION.match(text):
+        return False
+    size = item.size
+    if size < stats.body_size - 0.6:
+        return False
+    larger = size >= stats.body_size + 0.9
+    if item.mono >= 0.5 and not larger:
+        return False
+    if _is_toc_entry(text) or text.casefold().rstrip(":.!") in _ADMONITION:
+        return False
+    if len(text) <= 2 and not any(ch.isdigit() for ch in text):
+        return False  # index letters
+    bolder = item.bold >= 0.85 and not stats.body_bold
+    if not (larger or bolder):
+        return False
+    words = len(text.split())
+    if text[-1] in ",;" or (text[-1] == "." and numbering(text) is None and words > 6):
+        return False
+    if not larger and (words > 14 or len(item.first.lines) > 2):
+        return False
+    if text.endswith(":") and not larger:
+        return False
+    return True
+
+
+def _is_toc_entry(text: str) -> bool:
+    """A contents line: dot leaders, or a numbered title ending in a page number."""
+    if re.search(r"(\.\s*){4,}\S*$", text):
+        return True
+    return numbering(text) is not None and bool(_TOC_ENTRY.search(text)) and len(text.split()) >= 3
+
+
+def style_of(item: Item) -> tuple[float, bool]:
+    """The style key used to rank heading styles."""
+    return (round(item.size * 2) / 2, item.bold >= 0.85)
+
+
+def detect(items: list[Item], stats: FontStats) -> None:
+    """Set `level` on the items that are headings (font statistics and numbering)."""
+    chosen: list[Item] = []
+    pending_label = False
+    toc_pages = _contents_pages(items)
+    previous: Item | None = None
+    for item in items:
+        strong = item.size >= stats.body_size + 0.9 or item.bold >= 0.85
+        if is_label(item) and strong:
+            item.label = True
+            pending_label = True
+            previous = item
+            continue
+        if (
+            pending_label
+            and previous is not None
+            and _LABEL_WORD.match(previous.text.strip())
+            and item.kind == "text"
+            and len(item.text.split()) == 1
+        ):
+            item.label = True  # "CHAPTER" / "ONE" set as two blocks
+            previous = item
+            continue
+        previous = item
+        if item.pages[0] in toc_pages and _ENDS_NUMBER.search(item.text.strip()):
+            pending_label = False
+            continue
+        if is_candidate(item, stats) or (pending_label and item.kind == "text" and len(item.text) <= MAX_CHARS):
+            chosen.append(item)
+            if pending_label:
+                item.level = 1
+        pending_label = False
+    if not chosen:
+        return
+    votes: dict[tuple[float, bool], Counter[int]] = {}
+    for item in chosen:
+        depth = 1 if item.level == 1 else numbering(item.text)
+        if depth is not None:
+            votes.setdefault(style_of(item), Counter())[depth] += 1
+    styles = sorted({style_of(i) for i in chosen}, key=lambda s: (-s[0], not s[1]))
+    level_of: dict[tuple[float, bool], int] = {}
+    prev = 0
+    for style in styles:
+        if style in votes:
+            level = max(votes[style].most_common(1)[0][0], prev if prev else 1)
+        else:
+            level = prev + 1
+        level_of[style] = min(level, 9)
+        prev = level_of[style]
+    for item in chosen:
+        if item.level == 1:
+            continue
+        depth = numbering(item.text)
+        item.level = min(depth, 9) if depth is not None else level_of[style_of(item)]
+    _drop_empty(items)
+
+
+def _contents_pages(items: list[Item]) -> set[int]:
+    """Pages where most lines end in a page number (tables of contents, lists of tables)."""
+    ending: Counter[int] = Counter()
+    total: Counter[int] = Counter()
+    for item in items:
+        if item.kind != "text":
+            continue
+        for ln in item.lines:
+            total[ln.page] += 1
+            if _ENDS_NUMBER.search(ln.text.strip()):
+                ending[ln.page] += 1
+    return {p for p, n in total.items() if n >= 5 and ending[p] >= 0.4 * n}
+
+
+def _drop_empty(items: list[Item]) -> None:
+    """Unnumbered headings with no content before a sibling or higher heading are not headings
+    (title-page lines, author lists, affiliations)."""
+    flow = [i for i in items if not i.label]
+    drop: list[Item] = []
+    for here, after in zip(flow, flow[1:]):
+        if here.level is None or after.level is None:
+            continue
+        if after.level <= here.level and numbering(here.text) is None:
+            drop.append(here)
+    for item in drop:
+        item.level = None
+
+
+def title_item(items: list[Item], metadata_title: str | None) -> Item | None:
+    """The document title among page-1 headings: the PDF's own title, or a lone largest line."""
+    heads = [i for i in items if i.level is not None]
+    if not heads:
+        return None
+    first_page = [i for i in heads if i.pages[0] == 1]
+    if metadata_title and norm(metadata_title):
+        for item in first_page:
+            if _similar(norm(item.text), norm(metadata_title)) >= 0.85:
+                return item
+    if not first_page:
+        return None
+    top = max(first_page, key=lambda i: i.size)
+    others = [i.size for i in heads if i is not top]
+    if others and top.size >= max(others) + 2 and sum(1 for i in heads if style_of(i) == style_of(top)) == 1:
+        if top.first.lines[0].y0 < TITLE_TOP:
+            return top
+    return None
+
+
+# ---------------------------------------------------------------- outline
+
+
+def norm(text: str) -> str:
+    """Text for matching: case folded, numbering and punctuation removed."""
+    text = text.strip()
+    text = _LABEL_PREFIX.sub("", text)
+    m = _NUMBERING.match(text)
+    if m:
+        text = text[m.end():]
+    return _NORM.sub(" ", text.casefold()).strip()
+
+
+def _similar(a: str, b: str) -> float:
+    if not a or not b:
+        return 0.0
+    if a == b:
+        return 1.0
+    if a.startswith(b) or b.startswith(a):
+        short, long_ = sorted((a, b), key=len)
+        return 0.8 + 0.2 * len(short) / len(long_)
+    if abs(len(a) - len(b)) > 0.5 * max(len(a), len(b)):
+        return 0.0
+    return SequenceMatcher(None, a, b, autojunk=False).ratio()
+
+
+def apply_outline(
+    items: list[Item], toc: list[tuple[int, str, int]], page_count: int
+) -> tuple[list[Item], int]:
+    """Name and level headings from the outline; returns the new flow and the unmatched count.
+
+    Font-detected headings that the outline does not list are kept one level below the outline
+    entry they follow when their style is smaller than every matched style, else demoted to text.
+    """
+    by_page: dict[int, list[int]] = {}
+    for idx, item in enumerate(items):
+        if item.kind == "text" and not item.label:
+            by_page.setdefault(item.pages[0], []).append(idx)
+    assigned: dict[int, tuple[int, str]] = {}
+    inserts: dict[int, list[tuple[int, str]]] = {}
+    last_idx = -1
+    unmatched = 0
+    for level, title, page in toc:
+        target = norm(title)
+        best: tuple[float, int] | None = None
+        if target:
+            for p in (page, page + 1, page - 1):
+                for idx in by_page.get(p, ()):
+                    if idx in assigned:
+                        continue
+                    head = " ".join(ln.text.strip() for ln in items[idx].first.lines[:MAX_LINES])
+                    score = _similar(norm(head), target)
+                    if score < 0.8:
+                        continue
+                    score += 0.1 if items[idx].level is not None else 0.0
+                    score += 0.05 if idx > last_idx else 0.0
+                    if best is None or score > best[0]:
+                        best = (score, idx)
+                if best is not None and best[0] >= 0.95:
+                    break
+        if best is None:
+            unmatched += 1
+            anchor_page = min(max(page, 1), page_count)
+            inserts.setdefault(anchor_page, []).append((level, title.strip()))
+            continue
+        idx = best[1]
+        assigned[idx] = (level, _outline_text(items[idx].text, title))
+        last_idx = max(last_idx, idx)
+    matched_styles = {style_of(items[i]) for i in assigned}
+    smallest = min((s[0] for s in matched_styles), default=0.0)
+    out: list[Item] = []
+    done_pages: set[int] = set()
+    current = 0
+    for idx, item in enumerate(items):
+        page = item.pages[0]
+        if page in inserts and page not in done_pages:
+            done_pages.add(page)
+            for level, title in inserts[page]:
+                out.append(_synthetic(item, level, title))
+                current = level
+        if idx in assigned:
+            level, text = assigned[idx]
+            item.level, item.text = level, text
+            current = level
+        elif item.level is not None:
+            style = style_of(item)
+            if style not in matched_styles and style[0] <= smallest and current:
+                item.level = current + 1
+            else:
+                item.level = None
+        out.append(item)
+    for page in sorted(set(inserts) - done_pages):
+        anchor = out[-1] if out else None
+        for level, title in inserts[page]:
+            if anchor is not None:
+                out.append(_synthetic(anchor, level, title))
+    return out, unmatched
+
+
+def _outline_text(block_text: str, title: str) -> str:
+    """The outline's title, keeping a section number printed on the page when the title lacks it."""
+    title = " ".join(title.split())
+    m = _NUMBERING.match(block_text.strip())
+    if m and not _NUMBERING.match(title):
+        return m.group(0).strip() + " " + title
+    return title
+
+
+def _synthetic(near: Item, level: int, title: str) -> Item:
+    block = TextBlock(list(near.first.lines[:1]), near.first.column)
+    return Item("heading", [block], text=" ".join(title.split()), level=level)

@@ -1,0 +1,491 @@
+"""Tables: which pages can hold one (cheap, from vector drawings), and the tables on them.
+
+Two detectors of our own run on candidate pages only:
+- ruled grids: horizontal and vertical rulings joined into a grid; cells are the grid's boxes,
+  with column spans where a vertical ruling stops;
+- rule-bounded tables (booktabs style: horizontal rules only): the text between rules of the same
+  width must fall into aligned columns, which rejects prose between rules (boxes, separators).
+`page.find_tables()` is available as a reference engine (`engine="pymupdf"`); it costs tens of
+milliseconds a page, so it is only run on candidate pages too.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from statistics import median
+
+import pymupdf
+
+from segment.adapters.pdf.extract import TEXT_FLAGS, Line, normalise_text
+
+TOL = 2.0
+"""Points within which rulings are taken to touch."""
+MAX_SEGMENTS = 3000
+"""Pages with more rulings than this are vector figures, not tables: skipped."""
+
+_SPACE = re.compile(r"\s+")
+
+
+@dataclass(slots=True)
+class Rulings:
+    """Horizontal (y, x0, x1) and vertical (x, y0, y1) ruling segments and filled boxes."""
+
+    h: list[tuple[float, float, float]] = field(default_factory=list)
+    v: list[tuple[float, float, float]] = field(default_factory=list)
+    fills: list[tuple[float, float, float, float]] = field(default_factory=list)
+
+
+@dataclass(slots=True)
+class FoundTable:
+    """A table found on a page: header rows and body rows of cell texts."""
+
+    page: int
+    bbox: tuple[float, float, float, float]
+    header: list[list[str]]
+    rows: list[list[str]]
+    row_boxes: list[tuple[float, float, float, float]]
+    method: str
+
+
+def rulings(page: pymupdf.Page) -> Rulings:
+    """Line segments and thin rectangles among the page's vector drawings."""
+    out = Rulings()
+    width, height = page.rect.width, page.rect.height
+    for path in page.get_cdrawings():
+        stroked = "s" in (path.get("type") or "")
+        fill = path.get("fill")
+        white = fill is not None and all(c > 0.97 for c in fill)
+        for item in path.get("items", ()):
+            kind = item[0]
+            if kind == "l":
+                (xa, ya), (xb, yb) = item[1], item[2]
+                _add_segment(out, xa, ya, xb, yb)
+            elif kind == "re":
+                x0, y0, x1, y1 = item[1]
+                x0, x1 = min(x0, x1), max(x0, x1)
+                y0, y1 = min(y0, y1), max(y0, y1)
+                w, h = x1 - x0, y1 - y0
+                if w > width * 0.98 and h > height * 0.98:
+                    continue  # page background
+                if h <= 2.5 and w > 4:
+                    out.h.append(((y0 + y1) / 2, x0, x1))
+                elif w <= 2.5 and h > 4:
+                    out.v.append(((x0 + x1) / 2, y0, y1))
+                elif stroked or (fill is not None and not white):
+                    out.h += [(y0, x0, x1), (y1, x0, x1)]
+                    out.v += [(x0, y0, y1), (x1, y0, y1)]
+                    if fill is not None and not white:
+                        out.fills.append((x0, y0, x1, y1))
+    return out
+
+
+def _add_segment(out: Rulings, xa: float, ya: float, xb: float, yb: float) -> None:
+    if abs(ya - yb) <= 1.0 and abs(xa - xb) > 4:
+        out.h.append(((ya + yb) / 2, min(xa, xb), max(xa, xb)))
+    elif abs(xa - xb) <= 1.0 and abs(ya - yb) > 4:
+        out.v.append(((xa + xb) / 2, min(ya, yb), max(ya, yb)))
+
+
+def is_candidate(r: Rulings) -> bool:
+    """True when the page's rulings could frame a table (grid, or two rules of equal width)."""
+    if len(r.h) < 2 or len(r.h) + len(r.v) > MAX_SEGMENTS:
+        return False
+    if len(r.v) >= 2:
+        return True
+    extents: dict[tuple[int, int], int] = {}
+    for _, x0, x1 in r.h:
+        key = (round(x0 / 3), round(x1 / 3))
+        extents[key] = extents.get(key, 0) + 1
+        if extents[key] >= 2:
+            return True
+    return False
+
+
+# ---------------------------------------------------------------- words and styles on a page
+
+
+@dataclass(slots=True)
+class Word:
+    """A word with its box; `key` orders words in reading order within a cell."""
+
+    x0: float
+    y0: float
+    x1: float
+    y1: float
+    text: str
+    key: tuple[int, int, int]
+
+    @property
+    def cx(self) -> float:
+        """Horizontal centre."""
+        return (self.x0 + self.x1) / 2
+
+    @property
+    def cy(self) -> float:
+        """Vertical centre."""
+        return (self.y0 + self.y1) / 2
+
+
+def page_words(page: pymupdf.Page) -> list[Word]:
+    """Words of the page (only called on candidate pages)."""
+    return [
+        Word(w[0], w[1], w[2], w[3], normalise_text(w[4]), (w[5], w[6], w[7]))
+        for w in page.get_text("words", flags=TEXT_FLAGS)
+    ]
+
+
+def _cell_text(words: list[Word]) -> str:
+    words = sorted(words, key=lambda w: w.key)
+    return _SPACE.sub(" ", " ".join(w.text for w in words)).strip()
+
+
+def _bold_share(lines: list[Line], box: tuple[float, float, float, float]) -> float:
+    x0, y0, x1, y1 = box
+    total = bold = 0
+    for ln in lines:
+        cy = (ln.y0 + ln.y1) / 2
+        if not y0 <= cy <= y1:
+            continue
+        for p in ln.pieces:
+            cx = (p.x0 + p.x1) / 2
+            if x0 <= cx <= x1:
+                n = len(p.text.strip())
+                total += n
+                bold += n if p.bold else 0
+    return bold / total if total else 0.0
+
+
+# ---------------------------------------------------------------- ruled grids
+
+
+def _cluster(values: list[float], tol: float = 1.5) -> list[float]:
+    out: list[float] = []
+    for v in sorted(values):
+        if out and v - out[-1] <= tol:
+            continue
+        out.append(v)
+    return out
+
+
+def _components(r: Rulings) -> list[tuple[list[int], list[int]]]:
+    """Connected groups of rulings: (indices into h, indices into v)."""
+    nh = len(r.h)
+    parent = list(range(nh + len(r.v)))
+
+    def find(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    def union(a: int, b: int) -> None:
+        ra, rb = find(a), find(b)
+        if ra != rb:
+            parent[ra] = rb
+
+    for i, (y, hx0, hx1) in enumerate(r.h):
+        for j, (x, vy0, vy1) in enumerate(r.v):
+            if hx0 - TOL <= x <= hx1 + TOL and vy0 - TOL <= y <= vy1 + TOL:
+                union(i, nh + j)
+    by_y = sorted(range(nh), key=lambda i: (round(r.h[i][0]), r.h[i][1]))
+    for a, b in zip(by_y, by_y[1:]):
+        ya, _, ax1 = r.h[a]
+        yb, bx0, _ = r.h[b]
+        if abs(ya - yb) <= TOL and bx0 <= ax1 + TOL:
+            union(a, b)
+    by_x = sorted(range(len(r.v)), key=lambda j: (round(r.v[j][0]), r.v[j][1]))
+    for a, b in zip(by_x, by_x[1:]):
+        xa, _, ay1 = r.v[a]
+        xb, by0, _ = r.v[b]
+        if abs(xa - xb) <= TOL and by0 <= ay1 + TOL:
+            union(nh + a, nh + b)
+    groups: dict[int, tuple[list[int], list[int]]] = {}
+    for i in range(nh):
+        groups.setdefault(find(i), ([], []))[0].append(i)
+    for j in range(len(r.v)):
+        groups.setdefault(find(nh + j), ([], []))[1].append(j)
+    return list(groups.values())
+
+
+def grid_tables(
+    page_no: int, r: Rulings, words: list[Word], lines: list[Line]
+) -> tuple[list[FoundTable], list[int]]:
+    """Tables framed by horizontal and vertical rulings; also the h rulings left unused."""
+    found: list[FoundTable] = []
+    used_h: set[int] = set()
+    for hs, vs in _components(r):
+        if not vs or not hs:
+            continue
+        used_h.update(hs)
+        # Open frames (no outer verticals or no outer rules) still bound the table.
+        ys = _cluster([r.h[i][0] for i in hs] + [min(r.v[j][1] for j in vs), max(r.v[j][2] for j in vs)], 4.0)
+        xs = _cluster([r.v[j][0] for j in vs] + [min(r.h[i][1] for i in hs), max(r.h[i][2] for i in hs)], 4.0)
+        if len(xs) < 3 or len(ys) < 2:
+            continue
+        table = _grid_table(page_no, r, [r.v[j] for j in vs], xs, ys, words, lines)
+        if table is not None:
+            found.append(table)
+    return found, [i for i in range(len(r.h)) if i not in used_h]
+
+
+def _grid_table(
+    page_no: int,
+    r: Rulings,
+    vsegs: list[tuple[float, float, float]],
+    xs: list[float],
+    ys: list[float],
+    words: list[Word],
+    lines: list[Line],
+) -> FoundTable | None:
+    bbox = (xs[0], ys[0], xs[-1], ys[-1])
+    inside = [w for w in words if xs[0] <= w.cx <= xs[-1] and ys[0] <= w.cy <= ys[-1]]
+    if not inside:
+        return None
+    if len(ys) == 2:
+        # Only an outer frame horizontally: rows follow the text lines.
+        ys = [ys[0]] + _text_row_breaks(inside) + [ys[-1]]
+    rows: list[list[str]] = []
+    boxes: list[tuple[float, float, float, float]] = []
+    ncols = len(xs) - 1
+    for top, bottom in zip(ys, ys[1:]):
+        band = [w for w in inside if top <= w.cy <= bottom]
+        if not band:
+            continue
+        cells: list[str] = []
+        start = 0
+        for c in range(1, ncols + 1):
+            if c < ncols and not _has_vertical(vsegs, xs[c], top, bottom):
+                continue  # no ruling here: the cell spans into the next column
+            text = _cell_text([w for w in band if xs[start] <= w.cx <= xs[c]])
+            cells.extend([text] * (c - start))
+            start = c
+        if any(cells):
+            rows.append(cells)
+            boxes.append((xs[0], top, xs[-1], bottom))
+    filled = sum(1 for row in rows for cell in row if cell)
+    if len(rows) < 2 or filled < 3:
+        return None
+    # A framed box (code listing, note) is not a table: real tables have rows of distinct cells
+    # and more than one column that holds text.
+    distinct = sum(1 for row in rows if len({c for c in row if c}) >= 2)
+    used_cols = sum(1 for c in range(ncols) if any(row[c] for row in rows))
+    if distinct < max(2, len(rows) // 3) or used_cols < 2:
+        return None
+    header: list[list[str]] = []
+    if _header_first(rows, boxes, r, lines):
+        header = [rows.pop(0)]
+        boxes.pop(0)
+    return FoundTable(page_no, bbox, header, rows, boxes, "grid")
+
+
+def _text_row_breaks(words: list[Word]) -> list[float]:
+    centres = _cluster([w.cy for w in words], tol=3.0)
+    return [(a + b) / 2 for a, b in zip(centres, centres[1:])]
+
+
+def _has_vertical(vsegs: list[tuple[float, float, float]], x: float, top: float, bottom: float) -> bool:
+    need = 0.6 * (bottom - top)
+    covered = 0.0
+    for vx, y0, y1 in vsegs:
+        if abs(vx - x) <= TOL:
+            covered += max(0.0, min(y1, bottom) - max(y0, top))
+    return covered >= need
+
+
+def _header_first(
+    rows: list[list[str]],
+    boxes: list[tuple[float, float, float, float]],
+    r: Rulings,
+    lines: list[Line],
+) -> bool:
+    if len(rows) < 2:
+        return False
+    first = boxes[0]
+    for fx0, fy0, fx1, fy1 in r.fills:
+        # Shaded first row, body not shaded the same way.
+        if fy0 <= first[1] + TOL and fy1 >= first[3] - TOL and fx1 - fx0 > 0.5 * (first[2] - first[0]):
+            return True
+    head = _bold_share(lines, first)
+    body = median(_bold_share(lines, b) for b in boxes[1:])
+    return head >= 0.6 and body < 0.5
+
+
+# ---------------------------------------------------------------- rule-bounded tables
+
+
+def rule_tables(
+    page_no: int, r: Rulings, free_h: list[int], words: list[Word], lines: list[Line]
+) -> list[FoundTable]:
+    """Tables between horizontal rules of equal width whose text forms aligned columns."""
+    groups: dict[tuple[int, int], list[tuple[float, float, float]]] = {}
+    for i in free_h:
+        y, x0, x1 = r.h[i]
+        if x1 - x0 < 40:
+            continue
+        key = (round(x0 / 4), round(x1 / 4))
+        groups.setdefault(key, []).append((y, x0, x1))
+    found: list[FoundTable] = []
+    for rules in groups.values():
+        ys = _cluster([y for y, _, _ in rules], tol=1.0)
+        if len(ys) < 2:
+            continue
+        x0 = min(x for _, x, _ in rules)
+        x1 = max(x for _, _, x in rules)
+        bands: list[tuple[float, float, list[list[list[Word]]]]] = []
+        for top, bottom in zip(ys, ys[1:]):
+            band = [w for w in words if x0 - TOL <= w.cx <= x1 + TOL and top < w.cy < bottom]
+            rows = _rows_of_cells(band)
+            bands.append((top, bottom, rows))
+        run: list[tuple[float, float, list[list[list[Word]]]]] = []
+        for band_item in bands + [(0.0, 0.0, [])]:
+            if band_item[2] and _tabular(band_item[2], x1 - x0):
+                run.append(band_item)
+                continue
+            if run:
+                table = _rule_table(page_no, run, x0, x1, lines)
+                if table is not None:
+                    found.append(table)
+            run = []
+    return found
+
+
+def _rows_of_cells(words: list[Word]) -> list[list[list[Word]]]:
+    """Words grouped into rows by their centre line, each row cut into cells at wide gaps."""
+    rows: list[list[Word]] = []
+    for w in sorted(words, key=lambda w: (w.cy, w.x0)):
+        if rows and abs(rows[-1][0].cy - w.cy) <= 0.4 * (w.y1 - w.y0):
+            rows[-1].append(w)
+        else:
+            rows.append([w])
+    out: list[list[list[Word]]] = []
+    for row in rows:
+        row.sort(key=lambda w: w.x0)
+        cells: list[list[Word]] = [[row[0]]]
+        for prev, w in zip(row, row[1:]):
+            height = max(w.y1 - w.y0, 1.0)
+            if w.x0 - prev.x1 > 0.75 * height:
+                cells.append([w])
+            else:
+                cells[-1].append(w)
+        out.append(cells)
+    return out
+
+
+def _separators(rows: list[list[list[Word]]], x0: float, x1: float) -> list[tuple[float, float]]:
+    """Vertical strips no multi-cell row's cell covers: the column boundaries."""
+    spans = [(c[0].x0, c[-1].x1) for row in rows if len(row) >= 2 for c in row]
+    if not spans:
+        return []
+    spans.sort()
+    gaps: list[tuple[float, float]] = []
+    reach = spans[0][1]
+    for a, b in spans[1:]:
+        if a - reach >= 4:
+            gaps.append((reach, a))
+        reach = max(reach, b)
+    return gaps
+
+
+def _tabular(rows: list[list[list[Word]]], width: float) -> bool:
+    multi = sum(1 for row in rows if len(row) >= 2)
+    if multi == 0 or multi < 0.6 * len(rows):
+        return False
+    # Prose rows fill the width in one cell; tables leave gaps common to all rows.
+    return bool(_separators(rows, 0.0, width))
+
+
+def _rule_table(
+    page_no: int,
+    run: list[tuple[float, float, list[list[list[Word]]]]],
+    x0: float,
+    x1: float,
+    lines: list[Line],
+) -> FoundTable | None:
+    all_rows = [row for _, _, rows in run for row in rows]
+    seps = _separators(all_rows, x0, x1)
+    if not seps:
+        return None
+    bounds = [x0 - TOL] + [(a + b) / 2 for a, b in seps] + [x1 + TOL]
+    parsed: list[tuple[list[str], tuple[float, float, float, float], int]] = []
+    for band_no, (_, _, rows) in enumerate(run):
+        for row in rows:
+            words = [w for cell in row for w in cell]
+            cells = [
+                _cell_text([w for w in words if lo <= w.cx < hi]) for lo, hi in zip(bounds, bounds[1:])
+            ]
+            box = (x0, min(w.y0 for w in words), x1, max(w.y1 for w in words))
+            if parsed and not cells[0] and any(cells) and parsed[-1][2] == band_no:
+                # A wrapped cell: its continuation line joins the row above.
+                prev_cells, prev_box, _ = parsed[-1]
+                merged = [f"{a} {b}".strip() for a, b in zip(prev_cells, cells)]
+                parsed[-1] = (merged, (x0, prev_box[1], x1, box[3]), band_no)
+                continue
+            parsed.append((cells, box, band_no))
+    if len(parsed) < 2:
+        return None
+    header_count = sum(1 for _, _, b in parsed if b == 0) if len(run) >= 2 else 0
+    if header_count == 0 and _bold_share(lines, parsed[0][1]) >= 0.6:
+        header_count = 1
+    if header_count >= len(parsed):
+        header_count = 0
+    bbox = (x0, run[0][0], x1, run[-1][1])
+    return FoundTable(
+        page_no,
+        bbox,
+        [c for c, _, _ in parsed[:header_count]],
+        [c for c, _, _ in parsed[header_count:]],
+        [b for _, b, _ in parsed[header_count:]],
+        "rules",
+    )
+
+
+# ---------------------------------------------------------------- pymupdf reference engine
+
+
+def pymupdf_tables(page: pymupdf.Page, page_no: int) -> list[FoundTable]:
+    """Tables from `page.find_tables()` (default strategy), spans expanded to the left."""
+    out: list[FoundTable] = []
+    for t in page.find_tables().tables:
+        raw = t.extract()
+        rows: list[list[str]] = []
+        for raw_row in raw:
+            cells: list[str] = []
+            for cell in raw_row:
+                text = _SPACE.sub(" ", normalise_text(cell)).strip() if cell is not None else None
+                cells.append(text if text is not None else (cells[-1] if cells else ""))
+            if any(cells):
+                rows.append(cells)
+        if not rows:
+            continue
+        boxes = [tuple(row.bbox) for row in t.rows][: len(rows)]
+        header = [rows.pop(0)] if (len(rows) > 1 and not t.header.external and t.header.names) else []
+        if header:
+            boxes = boxes[1:]
+        out.append(FoundTable(page_no, tuple(t.bbox), header, rows, boxes, "pymupdf"))  # type: ignore[arg-type]
+    return out
+
+
+def find_page_tables(
+    page: pymupdf.Page, page_no: int, lines: list[Line], engine: str = "own"
+) -> tuple[list[FoundTable], bool]:
+    """Tables on one page, and whether the page was a candidate at all."""
+    r = rulings(page)
+    if not is_candidate(r):
+        return [], False
+    if engine == "pymupdf":
+        return pymupdf_tables(page, page_no), True
+    words = page_words(page)
+    grids, free_h = grid_tables(page_no, r, words, lines)
+    if lines:
+        # Rules above or below all body text decorate the page (running head and foot rules).
+        top = min(ln.y0 for ln in lines) - 2
+        bottom = max(ln.y1 for ln in lines) + 2
+        free_h = [i for i in free_h if top <= r.h[i][0] <= bottom]
+    rest = [w for w in words if not any(_inside(w, t.bbox) for t in grids)]
+    rules = rule_tables(page_no, r, free_h, rest, lines)
+    return grids + rules, True
+
+
+def _inside(w: Word, bbox: tuple[float, float, float, float]) -> bool:
+    return bbox[0] - 1 <= w.cx <= bbox[2] + 1 and bbox[1] - 1 <= w.cy <= bbox[3] + 1
