@@ -1,0 +1,115 @@
+"""The token budget under a real subword tokenizer, trained here on the demo docs.
+
+The tokenizers are built with the `tokenizers` library (general-purpose, no download): a
+WordPiece one in the style of BERT (lowercasing normaliser, whitespace + punctuation
+pre-tokenizer, [CLS]/[SEP] template) and a byte-level BPE one in the style of GPT-2 (spaces and
+newlines are part of the tokens). Each is saved as tokenizer.json and handed to the segmenter with
+`Settings(tokenizer=path, max_tokens=128)`; every chunk is then counted again by the tokenizers
+library itself, not by our counter, and must fit the budget unless flagged oversize.
+
+Counts exclude special tokens ([CLS]/[SEP]), as segment/tokens.py documents: a chunk's count is
+what its text adds to a model's input.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from pathlib import Path
+
+import pytest
+from tokenizers import Tokenizer, decoders, models, normalizers, pre_tokenizers, processors, trainers
+
+import segment
+from segment.settings import Settings
+
+DEMO = Path(__file__).resolve().parents[1] / "fixtures" / "demo"
+MAX_TOKENS = 128
+
+
+def _demo_pages() -> list[Path]:
+    pages = sorted(DEMO.rglob("*.md"))
+    assert len(pages) >= 4, "the bundled demo docs are missing"
+    return pages
+
+
+def _wordpiece(texts: list[str]) -> Tokenizer:
+    tok = Tokenizer(models.WordPiece(unk_token="[UNK]"))
+    tok.normalizer = normalizers.BertNormalizer(lowercase=True)
+    tok.pre_tokenizer = pre_tokenizers.BertPreTokenizer()
+    trainer = trainers.WordPieceTrainer(
+        vocab_size=800, special_tokens=["[PAD]", "[UNK]", "[CLS]", "[SEP]"], show_progress=False
+    )
+    tok.train_from_iterator(texts, trainer)
+    cls, sep = tok.token_to_id("[CLS]"), tok.token_to_id("[SEP]")
+    tok.post_processor = processors.TemplateProcessing(
+        single="[CLS] $A [SEP]", special_tokens=[("[CLS]", cls), ("[SEP]", sep)]
+    )
+    tok.decoder = decoders.WordPiece()
+    return tok
+
+
+def _byte_bpe(texts: list[str]) -> Tokenizer:
+    tok = Tokenizer(models.BPE())
+    tok.pre_tokenizer = pre_tokenizers.ByteLevel(add_prefix_space=False)
+    trainer = trainers.BpeTrainer(
+        vocab_size=600,
+        initial_alphabet=pre_tokenizers.ByteLevel.alphabet(),
+        special_tokens=["<|endoftext|>"],
+        show_progress=False,
+    )
+    tok.train_from_iterator(texts, trainer)
+    tok.decoder = decoders.ByteLevel()
+    return tok
+
+
+TRAINERS: dict[str, Callable[[list[str]], Tokenizer]] = {"wordpiece": _wordpiece, "byte-bpe": _byte_bpe}
+
+
+# Tokenizers under which the current code is known to break the budget, with the finding.
+KNOWN_FAILURES: dict[str, str] = {
+    "byte-bpe": "pieces are counted apart and joined with blank lines; a byte-level BPE counts the "
+    "'\\n\\n' joiners too, so a packed chunk can go a few tokens over (131, 134 > 128)",
+}
+
+
+@pytest.fixture(scope="module", params=sorted(TRAINERS))
+def tokenizer_file(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory) -> Path:
+    texts = [p.read_text(encoding="utf-8") for p in _demo_pages()]
+    tok = TRAINERS[request.param](texts)
+    path = tmp_path_factory.mktemp(request.param) / "tokenizer.json"
+    tok.save(str(path))
+    return path
+
+
+def _count(tok: Tokenizer, text: str) -> int:
+    return len(tok.encode(text, add_special_tokens=False).ids)
+
+
+def test_every_chunk_fits_under_the_real_tokenizer(tokenizer_file: Path, request: pytest.FixtureRequest) -> None:
+    known = KNOWN_FAILURES.get(request.node.callspec.params["tokenizer_file"])
+    if known:
+        request.applymarker(pytest.mark.xfail(reason=known, strict=True))
+    tok = Tokenizer.from_file(str(tokenizer_file))
+    settings = Settings(tokenizer=str(tokenizer_file), max_tokens=MAX_TOKENS, min_tokens=16)
+    bad: list[str] = []
+    for path in _demo_pages():
+        page = path.relative_to(DEMO).as_posix()
+        chunks = segment.chunk_file(path, settings, source=page)
+        assert len(chunks) >= 2, f"{page} should need more than one chunk at {MAX_TOKENS} tokens"
+        for c in chunks:
+            real = _count(tok, c.text)
+            if real != c.tokens:
+                bad.append(f"{page} chunk {c.seq}: records {c.tokens} tokens, the tokenizer counts {real}")
+            if real > MAX_TOKENS and not c.oversize:
+                bad.append(f"{page} chunk {c.seq}: {real} tokens > {MAX_TOKENS}, not oversize: {c.text[:80]!r}")
+    assert not bad, "\n".join(bad)
+
+
+def test_the_budget_binds(tokenizer_file: Path) -> None:
+    """The test means something: at this budget the tokenizer's counts come close to the limit."""
+    tok = Tokenizer.from_file(str(tokenizer_file))
+    settings = Settings(tokenizer=str(tokenizer_file), max_tokens=MAX_TOKENS, min_tokens=16)
+    counts = [_count(tok, c.text) for p in _demo_pages() for c in segment.chunk_file(p, settings)]
+    assert max(counts) > MAX_TOKENS * 0.75
+    # Source: the same tokenizer on the whole page; the pages are far over one chunk's budget.
+    assert max(_count(tok, p.read_text(encoding="utf-8")) for p in _demo_pages()) > 4 * MAX_TOKENS
