@@ -10,10 +10,11 @@ The rule, in order:
    inside `main`/`article` (there it is the article's own header and often holds the `h1`).
 2. The main content is the first `main`, else the first `role="main"`, else a lone `article`
    (several articles: their common parent), else the result of descending from `body` while one
-   child holds at least 90% of the remaining non-link text and every heading (so a page without
-   landmarks keeps all its headed content, and sidebars of links fall away).
-3. Inline markers for the text pass: `<br>` becomes a line-break marker, `<img alt>` its alt
-   text, and block elements get a space at both ends so flattened text never glues words.
+   wrapper child (`div`, `section`, `span`, a layout `td`...) holds at least 90% of the remaining
+   non-link text and every heading (so a page without landmarks keeps all its headed content,
+   and sidebars of links fall away).
+3. Inline markers for the text pass: `<br>` becomes a line-break marker (a newline inside
+   `pre`), `<img alt>` its alt text.
 """
 
 from __future__ import annotations
@@ -23,7 +24,6 @@ from dataclasses import dataclass, field
 from lxml import etree
 
 from segment.adapters.html.tags import (
-    BLOCK_TAGS,
     DROP_CLASSES,
     DROP_ROLES,
     DROP_TAGS,
@@ -67,80 +67,81 @@ def clean(root: etree._Element) -> Cleaned:
     mains: list[etree._Element] = []
     role_mains: list[etree._Element] = []
     articles: list[etree._Element] = []
-    in_pre = 0
-    in_main = 0
-    walker = etree.iterwalk(body, events=("start", "end"))
-    for event, el in walker:
+    pres: list[etree._Element] = []
+    walker = etree.iterwalk(body, events=("start",))
+    for _, el in walker:
         tag = el.tag
-        if not isinstance(tag, str):
+        if tag.__class__ is not str:
             continue
-        tag = tag.lower()
-        if event == "end":
-            if tag in PRE_TAGS:
-                in_pre -= 1
-            elif tag == "main" or tag == "article" or el.get("role") == "main":
-                in_main -= 1
-            continue
-        reason = _drop_reason(el, tag, in_main)
+        keys = el.keys()
+        reason = _drop_reason(el, tag, keys) if (keys or tag in _TAG_RULES) else None
         if reason:
             drop.append(el)
             counts[reason] = counts.get(reason, 0) + 1
             walker.skip_subtree()
-            # The end event still comes: undo the counters it will decrement.
-            if tag in PRE_TAGS:
-                in_pre += 1
-            elif tag == "main" or tag == "article" or el.get("role") == "main":
-                in_main += 1
-            continue
-        if tag == "br":
-            el.tail = ("\n" if in_pre else BREAK) + (el.tail or "")
+        elif tag == "br":
+            el.tail = BREAK + (el.tail or "")
         elif tag == "img":
             alt = el.get("alt")
             if alt:
                 el.tail = alt + (el.tail or "")
-        elif tag in BLOCK_TAGS:
-            if tag in PRE_TAGS:
-                in_pre += 1
-            elif not in_pre:
-                el.text = " " + (el.text or "")
-            if not in_pre:
-                el.tail = " " + (el.tail or "")
-            if tag == "main":
-                mains.append(el)
-                in_main += 1
-            elif tag == "article":
-                articles.append(el)
-                in_main += 1
-            elif el.get("role") == "main":
-                role_mains.append(el)
-                in_main += 1
-        elif el.get("role") == "main":
+        elif tag in PRE_TAGS:
+            pres.append(el)
+            walker.skip_subtree()
+        elif tag == "main":
+            mains.append(el)
+        elif tag == "article":
+            articles.append(el)
+        elif keys and el.get("role") == "main":
             role_mains.append(el)
-            in_main += 1
+    for pre in pres:
+        _clean_pre(pre, drop, counts)
     for el in reversed(drop):
         remove_keep_tail(el)
     main = _choose_main(body, mains, role_mains, articles)
     return Cleaned(main=main, title=title or None, dropped=counts)
 
 
-def _drop_reason(el: etree._Element, tag: str, in_main: int) -> str | None:
+_TAG_RULES = DROP_TAGS | {"header"}
+
+
+def _clean_pre(pre: etree._Element, drop: list[etree._Element], counts: dict[str, int]) -> None:
+    """Inside `pre`: `<br>` is a newline, hidden or script content still goes."""
+    for el in pre.iter():
+        if el is pre or el.tag.__class__ is not str:
+            continue
+        if el.tag == "br":
+            el.tail = "\n" + (el.tail or "")
+        elif el.tag in ("script", "style", "template") or is_hidden(el):
+            drop.append(el)
+            counts["pre-hidden"] = counts.get("pre-hidden", 0) + 1
+
+
+def _in_main(el: etree._Element) -> bool:
+    for anc in el.iterancestors():
+        if anc.tag in ("main", "article") or anc.get("role") == "main":
+            return True
+    return False
+
+
+def _drop_reason(el: etree._Element, tag: str, keys: list[str]) -> str | None:
     if tag in DROP_TAGS:
         if tag == "aside" and is_admonition(el):
             return None
         return tag
-    if tag == "header" and not in_main:
+    if tag == "header" and not _in_main(el):
         return "header"
-    if is_hidden(el):
+    if not keys:
+        return None
+    if ("hidden" in keys or "aria-hidden" in keys or "style" in keys) and is_hidden(el):
         return "hidden"
-    role = el.get("role")
-    if role and role.lower() in DROP_ROLES:
-        if role.lower() == "banner" and in_main:
-            return None
-        return f"role={role.lower()}"
+    if "role" in keys:
+        role = el.get("role", "").lower()
+        if role in DROP_ROLES and not (role == "banner" and _in_main(el)):
+            return f"role={role}"
     for attr in ("class", "id"):
-        value = el.get(attr)
-        if value:
-            for token in value.lower().split():
+        if attr in keys:
+            for token in el.get(attr, "").lower().split():
                 if token in DROP_CLASSES:
                     return f"{attr}={token}"
     return None
@@ -201,7 +202,7 @@ def _densest(body: etree._Element) -> etree._Element:
     while total > 0:
         best, best_weight = None, -1
         for child in node:
-            if isinstance(child.tag, str):
+            if child.tag in _WRAPPER_TAGS:
                 weight = _text_weight(child)
                 if weight > best_weight:
                     best, best_weight = child, weight
@@ -211,11 +212,17 @@ def _densest(body: etree._Element) -> etree._Element:
     return node
 
 
+_WRAPPER_TAGS = frozenset({"div", "section", "article", "main", "center", "span", "font", "td"})
+"""Elements the heuristic may descend into: generic wrappers, never a table, list or code block."""
+
+_STRING_LENGTH = etree.XPath("string-length(normalize-space(.))")
+
+
 def _text_weight(el: etree._Element) -> int:
-    """Characters of non-whitespace text outside links."""
-    everything = sum(len(t.strip()) for t in el.itertext())
-    links = sum(len(t.strip()) for a in el.iter("a") for t in a.itertext())
-    return everything - links
+    """Characters of text outside links, whitespace runs counted once (computed in libxml2)."""
+    everything = _STRING_LENGTH(el)
+    links = sum(_STRING_LENGTH(a) for a in el.iter("a"))
+    return int(everything - links)
 
 
 def _heading_count(el: etree._Element) -> int:

@@ -9,8 +9,9 @@ rows made only of `th` cells. Nested tables are flattened into their cell's text
 
 Navigation and layout tables: `role="presentation"`/`"none"` tables are layout and their cells
 are read as ordinary content; tables whose `summary`/`aria-label` says navigation, or that look
-like a bar of links (at most 3 rows, every non-empty cell short, and links in at least half of
-them, with no `thead` or `caption`), are navigation and dropped.
+like a bar of links (at most 3 rows, no `thead` or `caption`, every non-empty cell at most 8
+words, and at least two cells -- and at least half of them -- nothing but links: DocBook's
+Prev/Up/Home/Next bars), are navigation and dropped.
 """
 
 from __future__ import annotations
@@ -21,7 +22,7 @@ from dataclasses import dataclass, field
 from lxml import etree
 
 from segment.adapters.html.tags import tag_of
-from segment.adapters.html.text import flat_text, line_range, text_of
+from segment.adapters.html.text import flat_text, line_range
 from segment.tree import Row, Span, Table
 
 MAX_COLSPAN = 1000
@@ -76,8 +77,14 @@ def _looks_like_link_bar(el: etree._Element) -> bool:
         return False
     if any(len(flat_text(c).split()) > 8 for c in cells):
         return False
-    linked = sum(1 for c in cells if c.find(".//a[@href]") is not None)
+    linked = sum(1 for c in cells if _all_link(c))
     return linked * 2 >= len(cells) and linked >= 2
+
+
+def _all_link(cell: etree._Element) -> bool:
+    """Every word of the cell is inside a link."""
+    links = " ".join(flat_text(a) for a in cell.iter("a") if a.get("href") is not None)
+    return bool(links) and links.split() == flat_text(cell).split()
 
 
 def _iter_rows(table: etree._Element):  # type: ignore[no-untyped-def]
@@ -144,7 +151,7 @@ def build_table(el: etree._Element, caption: str | None = None) -> Table:
                 break
         if head == len(grid.rows):  # a table of header cells only: keep them as rows
             head = 0
-    span_lines = line_range(el.sourceline, text_of(el.itertext()))
+    span_lines = line_range(el.sourceline, "".join(el.itertext()))
     return Table(header=rows_out[:head], rows=rows_out[head:], caption=caption, span=Span(lines=span_lines))
 
 
@@ -154,7 +161,7 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
     growing: list[tuple[int, int, int, _Cell]] = []  # (x, width, y_from, cell) for rowspan=0
     group_end = y_start
     for tr in rows:
-        lines = line_range(tr.sourceline, text_of(tr.itertext()))
+        lines = line_range(tr.sourceline, "".join(tr.itertext()))
         row_span = Span(lines=lines)
         grid.ensure(y, 0, row_span)
         grid.row_spans[y] = row_span
@@ -172,7 +179,7 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
                 x += 1
             colspan = _span_number(td.get("colspan"), 1, 1, MAX_COLSPAN)
             rowspan = _span_number(td.get("rowspan"), 1, 0, MAX_ROWSPAN)
-            cell = _Cell(flat_text(td), tag == "th", Span(lines=line_range(td.sourceline, text_of(td.itertext()))))
+            cell = _Cell(flat_text(td), tag == "th", Span(lines=line_range(td.sourceline, "".join(td.itertext()))))
             height = 1 if rowspan == 0 else rowspan
             for dy in range(height):
                 for dx in range(colspan):

@@ -3,14 +3,14 @@
 from __future__ import annotations
 
 import re
-from collections.abc import Iterable
-
 from lxml import etree
 
 from segment.adapters.html.clean import BREAK
+from segment.adapters.html.tags import BLOCK_TAGS
 
-_WS = re.compile(r"[ \t\n\r\f]+")
-"""ASCII whitespace, the set HTML collapses (a no-break space is kept)."""
+_WS = re.compile(r"[ \t\n\r\f\xa0]+")
+"""The ASCII whitespace HTML collapses, plus the no-break space: a page's `&nbsp;` is layout
+(DocBook writes "Table&nbsp;9.4"), and search text reads better with a plain space."""
 
 
 def collapse(raw: str, breaks: bool = True) -> str:
@@ -25,13 +25,44 @@ def collapse(raw: str, breaks: bool = True) -> str:
 
 
 def flat_text(el: etree._Element, breaks: bool = False) -> str:
-    """All text under `el` (not its tail) on one line, or with `<br>` breaks when asked."""
-    return collapse("".join(el.itertext()), breaks)
+    """All text under `el` (not its tail) on one line, or with `<br>` breaks when asked.
+
+    Block elements inside (paragraphs in a table cell, a nested table) are kept apart by a space.
+    """
+    if not len(el):
+        return collapse(el.text or "", breaks)
+    if not has_block(el):
+        return collapse("".join(el.itertext()), breaks)
+    return collapse(spaced_text(el), breaks)
 
 
-def text_of(pieces: Iterable[str | None]) -> str:
-    """Join raw text pieces (None skipped)."""
-    return "".join(p for p in pieces if p)
+def spaced_text(el: etree._Element) -> str:
+    """Raw text under `el` with a space at both ends of every block element inside."""
+    pieces: list[str] = [el.text or ""]
+    for event, node in etree.iterwalk(el, events=("start", "end")):
+        if node is el:
+            continue
+        tag = node.tag
+        block = tag.__class__ is str and tag in BLOCK_TAGS
+        if event == "start":
+            if block:
+                pieces.append(" ")
+            pieces.append(node.text or "")
+        else:
+            if block:
+                pieces.append(" ")
+            pieces.append(node.tail or "")
+    return "".join(pieces)
+
+
+def has_block(el: etree._Element) -> bool:
+    """True when a block element lies inside `el`."""
+    if not len(el):
+        return False
+    for node in el.iterdescendants():  # a Python loop beats iter(*56 tags) on small subtrees
+        if node.tag in BLOCK_TAGS:
+            return True
+    return False
 
 
 def line_range(first_line: int | None, raw: str) -> tuple[int, int] | None:

@@ -31,7 +31,7 @@ from segment.adapters.html.tags import (
     is_admonition,
     tag_of,
 )
-from segment.adapters.html.text import collapse, flat_text, line_range
+from segment.adapters.html.text import collapse, flat_text, has_block, line_range, spaced_text
 from segment.tree import (
     Block,
     Code,
@@ -48,7 +48,6 @@ from segment.tree import (
 )
 
 _CONTAINER, _LIST, _DL = 0, 1, 2
-_BLOCK_TUPLE = tuple(BLOCK_TAGS)
 _ALERT = re.compile(r"^\[!(\w+)\][ \t]*\n?")
 _LANG_PREFIXES = ("language-", "lang-", "highlight-", "sourcecode-")
 _NO_LANG = {"default", "none", "text", "plain", "nohighlight", "plaintext"}
@@ -112,7 +111,7 @@ class Walker:
                 self._list_child(stack, f, child, tag)
             elif f.mode == _DL:
                 self._dl_child(stack, f, child, tag)
-            elif tag not in BLOCK_TAGS and child.get("role") != "heading" and not _has_block(child):
+            elif tag not in BLOCK_TAGS and child.get("role") != "heading" and not has_block(child):
                 line = child.sourceline or f.line
                 self._text(f, "".join(child.itertext()), line)
                 self._text(f, child.tail, f.line)
@@ -211,7 +210,7 @@ class Walker:
         elif tag in ("div", "section", "aside", "article") and is_admonition(el):
             self._push(stack, f, el, _CONTAINER, Quote(label=self._admonition_label(el)), self._finish_quote)
             return True
-        elif tag in PARAGRAPH_TAGS and not _has_block(el):
+        elif tag in PARAGRAPH_TAGS and not has_block(el):
             raw = "".join(el.itertext())
             text = collapse(raw)
             if text:
@@ -331,7 +330,7 @@ class Walker:
         self._flush(f)
         items: list[Definition] = f.node.items
         if tag == "dt":
-            raw = "".join(el.itertext())
+            raw = spaced_text(el) if has_block(el) else "".join(el.itertext())
             term = collapse(raw, breaks=False)
             span = Span(lines=line_range(el.sourceline, raw))
             if not items or items[-1].blocks:
@@ -406,6 +405,8 @@ def heading_text(el: etree._Element) -> tuple[str, str | None]:
         if node is el:
             continue
         if event == "end":
+            if node.tag in BLOCK_TAGS:
+                pieces.append(" ")
             pieces.append(node.tail or "")
             continue
         if tag_of(node) == "a":
@@ -417,6 +418,8 @@ def heading_text(el: etree._Element) -> tuple[str, str | None]:
                 continue
             if not node.get("href") and (node.get("id") or node.get("name")):
                 anchor = anchor or node.get("id") or node.get("name")
+        if node.tag in BLOCK_TAGS:
+            pieces.append(" ")
         pieces.append(node.text or "")
     return "".join(pieces), anchor
 
@@ -462,13 +465,6 @@ def _language(el: etree._Element) -> str | None:
                     value = token[len(prefix):]
                     return None if value.lower() in _NO_LANG else value
     return None
-
-
-def _has_block(el: etree._Element) -> bool:
-    for node in el.iter(*_BLOCK_TUPLE):
-        if node is not el:
-            return True
-    return False
 
 
 def _later(a: int | None, b: int | None) -> int | None:
