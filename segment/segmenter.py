@@ -130,8 +130,10 @@ class Segmenter:
             if tokens <= self.budget:
                 pending.append(_Unit(self._all_pieces(child), tokens, child_crumb, child_anchor))
                 continue
-            if all(p.kind == BlockKind.HEADING for u in pending for p in u.pieces):
-                pending = []  # a bare heading: every chunk of the child carries it in its breadcrumb
+            bare = len(pending) == 1 and pending[0].breadcrumb is crumb and len(pending[0].pieces) == 1
+            if bare and pending[0].pieces[0].kind == BlockKind.HEADING:
+                # This section's bare heading: every chunk of the child carries it in its breadcrumb.
+                pending = []
             self._flush_units(pending, crumb, out)
             pending = []
             self._section(child, child_crumb, child_anchor, out, title)

@@ -8,10 +8,14 @@ Only a table row that cannot fit even alone (with its header) makes an over-budg
 
 from __future__ import annotations
 
+from bisect import bisect_right
+from collections.abc import Callable
 from dataclasses import dataclass
 
 from segment.render import (
+    INDENT,
     code_fence,
+    item_marker,
     quote_label,
     render_block,
     render_definition,
@@ -21,7 +25,17 @@ from segment.render import (
 )
 from segment.sentences import split_sentences
 from segment.tokens import TokenCounter
-from segment.tree import Block, Code, DefinitionList, ListBlock, Paragraph, Quote, Span, Table
+from segment.tree import (
+    Block,
+    Code,
+    Definition,
+    DefinitionList,
+    ListBlock,
+    Paragraph,
+    Quote,
+    Span,
+    Table,
+)
 
 
 @dataclass(slots=True)
@@ -38,6 +52,9 @@ class Part:
 class _Unit:
     text: str
     span: Span
+    expand: Callable[[int], list[_Unit]] | None = None
+    """For a unit with structure inside (a list item, a quoted block): smaller units, each fitting
+    the given room where possible, that keep that structure."""
 
 
 class Splitter:
@@ -59,26 +76,65 @@ class Splitter:
             units = [_Unit(render_row(r), r.span) for r in block.rows]
             return self._pack(units, "\n", prefix, "", first_budget, budget, block.span, rows=True)
         if isinstance(block, ListBlock):
-            units = [_Unit(render_item(block, i), it.span) for i, it in enumerate(block.items)]
+            units = [
+                _Unit(render_item(block, i), it.span, lambda room, b=block, k=i: self._item_units(b, k, room))
+                for i, it in enumerate(block.items)
+            ]
             return self._pack(units, "\n", "", "", first_budget, budget, block.span)
         if isinstance(block, Code):
-            units = [_Unit(line, block.span) for line in block.lines]
+            units = [_Unit(line, _code_line_span(block, i)) for i, line in enumerate(block.lines)]
             return self._pack(units, "\n", code_fence(block), "```", first_budget, budget, block.span)
         if isinstance(block, Quote):
-            units = [_Unit(render_block(b), b.span) for b in block.blocks]
+            units = [_Unit(render_block(b), b.span, lambda room, b=b: self._block_units(b, room)) for b in block.blocks]
             return self._pack(units, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span)
         if isinstance(block, DefinitionList):
-            units = [_Unit(render_definition(d), d.span) for d in block.items]
+            units = [
+                _Unit(render_definition(d), d.span, lambda room, d=d: self._definition_units(d, room))
+                for d in block.items
+            ]
             return self._pack(units, "\n", "", "", first_budget, budget, block.span)
         if isinstance(block, Paragraph):
-            return self.split_text(block.text, block.span, first_budget, budget)
+            return self.split_text(block.text, block.span, first_budget, budget, block.line_starts)
         raise TypeError(f"not a block: {type(block).__name__}")
 
-    def split_text(self, text: str, span: Span, first_budget: int, budget: int) -> list[Part]:
+    def split_text(
+        self, text: str, span: Span, first_budget: int, budget: int, line_starts: list[int] | None = None
+    ) -> list[Part]:
         """Running text cut between sentences (then words, then characters)."""
-        sentences = [s.strip() for s in split_sentences(text, self.language)]
-        units = [_Unit(s, span) for s in sentences if s]
+        units: list[_Unit] = []
+        offset = 0
+        for raw in split_sentences(text, self.language):
+            stripped = raw.strip()
+            if stripped:
+                start = offset + len(raw) - len(raw.lstrip())
+                units.append(_Unit(stripped, _text_span(span, line_starts, start, start + len(stripped))))
+            offset += len(raw)
         return self._pack(units, " ", "", "", first_budget, budget, span)
+
+    def _block_units(self, block: Block, room: int) -> list[_Unit]:
+        return [_Unit(p.text, p.span) for p in self.split(block, room, room)]
+
+    def _item_units(self, block: ListBlock, index: int, room: int) -> list[_Unit]:
+        """An over-budget list item cut along its own blocks; the marker leads, the rest indented."""
+        marker = item_marker(block, index)
+        inner = max(room - self.count(marker), 1)
+        units: list[_Unit] = []
+        for b in block.items[index].blocks:
+            for part in self.split(b, inner, inner):
+                lead = marker if not units else " " * len(marker)
+                units.append(_Unit(_indent(part.text, lead, " " * len(marker)), part.span))
+        return units
+
+    def _definition_units(self, item: Definition, room: int) -> list[_Unit]:
+        """An over-budget definition cut along its blocks; the terms stay with the first part."""
+        units: list[_Unit] = []
+        head = "; ".join(item.terms)
+        inner = max(room - self.count(head), 1)
+        for b in item.blocks:
+            for part in self.split(b, inner, inner):
+                text = _indent(part.text, INDENT, INDENT)
+                units.append(_Unit(f"{head}\n{text}" if not units else text, part.span))
+        return units or [_Unit(head, item.span)]
 
     def _pack(
         self,
@@ -134,6 +190,11 @@ class Splitter:
                 parts.append(Part(text, self.count(text), unit.span, oversize=True))
                 limit = budget
                 continue
+            if unit.expand is not None:
+                smaller = unit.expand(max(budget - frame, 1))
+                if len(smaller) > 1:
+                    queue.extend(reversed(smaller))
+                    continue
             pieces = self._break(unit.text, max(limit - frame, 1), max(budget - frame, 1))
             if len(pieces) == 1:  # cannot be broken further: it goes alone
                 current.append(unit)
@@ -212,3 +273,24 @@ class Splitter:
         for u in units[1:]:
             merged = merged.merge(u.span)
         return Part(text, self.count(text), merged)
+
+
+def _indent(text: str, first: str, rest: str) -> str:
+    lines = text.split("\n")
+    return first + lines[0] + "".join("\n" + (rest + line if line else line) for line in lines[1:])
+
+
+def _code_line_span(code: Code, index: int) -> Span:
+    if code.first_line is None:
+        return code.span
+    line = code.first_line + index
+    return Span(lines=(line, line), pages=code.span.pages, bbox=code.span.bbox)
+
+
+def _text_span(span: Span, line_starts: list[int] | None, start: int, end: int) -> Span:
+    """The lines of text[start:end] inside a paragraph whose later lines begin at `line_starts`."""
+    if not line_starts or span.lines is None:
+        return span
+    first = span.lines[0] + bisect_right(line_starts, start)
+    last = span.lines[0] + bisect_right(line_starts, max(end - 1, start))
+    return Span(lines=(first, min(last, span.lines[1])), pages=span.pages, bbox=span.bbox)

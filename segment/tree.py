@@ -78,6 +78,8 @@ class Paragraph:
     text: str
     span: Span = field(default_factory=Span)
     kind: BlockKind = field(default=BlockKind.PARAGRAPH, init=False)
+    line_starts: list[int] = field(default_factory=list)
+    """Offsets in `text` where source lines after the first begin (lets a split part know its lines)."""
 
 
 @dataclass(slots=True)
@@ -126,6 +128,8 @@ class Code:
     language: str | None = None
     span: Span = field(default_factory=Span)
     kind: BlockKind = field(default=BlockKind.CODE, init=False)
+    first_line: int | None = None
+    """Source line of `lines[0]`, when known (a fence's opening line is not part of the code)."""
 
 
 @dataclass(slots=True)

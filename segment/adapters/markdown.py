@@ -51,6 +51,7 @@ _LABEL_KEYS = {"title", "header", "caption", "label", "name"}
 _HEADING_ID = re.compile(r"\s*\{#([\w.:-]+)[^}]*\}\s*$")
 _ALERT = re.compile(r"^\[!(\w+)\][ \t]*\n?")
 _COMMENT = re.compile(r"<!--.*?(-->|$)", re.DOTALL)
+_HIDDEN = re.compile(r"<(script|style|template)\b.*?(</\1\s*>|$)", re.DOTALL | re.IGNORECASE)
 _TAG = re.compile(r"<[^>]*>")
 _BR = re.compile(r"<br\s*/?>", re.IGNORECASE)
 _SLUG_DROP = re.compile(r"[^\w\- ]", re.UNICODE)
@@ -168,7 +169,8 @@ class _TreeBuilder:
                 self.paragraph(inline, _span(tok))
                 i += 2
             elif t in ("bullet_list_open", "ordered_list_open"):
-                start = int(tok.attrGet("start") or 1) if t == "ordered_list_open" else 1
+                raw_start = tok.attrGet("start") if t == "ordered_list_open" else None
+                start = int(raw_start) if raw_start is not None else 1
                 block = ListBlock(ordered=t == "ordered_list_open", start=start, span=_span(tok))
                 self.add(block)
                 self.stack.append(block)
@@ -187,9 +189,11 @@ class _TreeBuilder:
             elif t == "fence":
                 info = tok.info.strip().split()
                 lang = info[0].strip("{}.") if info else None
-                self.add(Code(_code_lines(tok.content), lang or None, _span(tok)))
+                first = tok.map[0] + 2 if tok.map else None  # the line after the opening fence
+                self.add(Code(_code_lines(tok.content), lang or None, _span(tok), first_line=first))
             elif t == "code_block":
-                self.add(Code(_code_lines(tok.content), None, _span(tok)))
+                first = tok.map[0] + 1 if tok.map else None
+                self.add(Code(_code_lines(tok.content), None, _span(tok), first_line=first))
             elif t == "html_block":
                 text = html_to_text(tok.content)
                 if text:
@@ -245,9 +249,12 @@ class _TreeBuilder:
         return slug if n == 0 else f"{slug}-{n}"
 
     def paragraph(self, inline: Token, span: Span) -> None:
-        text = inline_text(inline).strip()
+        raw, starts = inline_text_lines(inline)
+        text = raw.strip()
         if text:
-            self.add(Paragraph(text, span))
+            lead = len(raw) - len(raw.lstrip())
+            starts = [k - lead for k in starts if lead < k < lead + len(text)]
+            self.add(Paragraph(text, span, line_starts=starts))
 
     def table(self, tokens: list[Token], i: int) -> int:
         table = Table(span=_span(tokens[i]))
@@ -301,30 +308,37 @@ def _label_alert(quote: Quote) -> None:
 
 def inline_text(inline: Token) -> str:
     """The visible text of an inline token's children."""
+    return inline_text_lines(inline)[0]
+
+
+def inline_text_lines(inline: Token) -> tuple[str, list[int]]:
+    """The visible text of an inline token, and the offsets where each later source line starts."""
     out: list[str] = []
+    starts: list[int] = []
+    size = 0
     for child in inline.children or []:
         t = child.type
+        before = len(out)
         if t == "text":
             out.append(child.content)
         elif t == "code_inline":
             out.append(f"`{child.content}`")
-        elif t == "softbreak":
-            out.append(" ")
-        elif t == "hardbreak":
-            out.append("\n")
+        elif t in ("softbreak", "hardbreak"):
+            out.append(" " if t == "softbreak" else "\n")
+            starts.append(size + 1)
         elif t == "image":
             out.append(child.content)
         elif t == "html_inline":
             if _BR.fullmatch(child.content.strip()):
                 out.append("\n")
-        elif t in ("html_block",):
-            out.append(html_to_text(child.content))
-    return "".join(out)
+        size += sum(len(x) for x in out[before:])
+    return "".join(out), starts
 
 
 def html_to_text(raw: str) -> str:
-    """Raw HTML reduced to its text: comments dropped, tags removed, entities decoded."""
-    text = _COMMENT.sub("", raw)
+    """Raw HTML reduced to the text a reader sees: comments and script/style bodies dropped,
+    tags removed, entities decoded."""
+    text = _HIDDEN.sub("", _COMMENT.sub("", raw))
     text = _BR.sub("\n", text)
     text = html.unescape(_TAG.sub(" ", text))
     lines = [" ".join(line.split()) for line in text.split("\n")]
