@@ -129,11 +129,10 @@ def _parse_open(
     headings.detect(items, stats)
     meta = doc.metadata or {}
     title_node = headings.title_item(items, meta.get("title"))
-    title = (meta.get("title") or "").strip() or None
-    if title_node is not None:
-        title_node.level = None
-        title_node.kind = "text"
-        title = title or title_node.text.strip()
+    # Like the Markdown adapter's first h1, the visible title names the document and stays a
+    # heading; the metadata title is the fallback.
+    title = title_node.text.strip() if title_node is not None else None
+    title = title or (meta.get("title") or "").strip() or None
     toc = doc.get_toc(simple=True) if use_outline else []
     unmatched = 0
     if toc:

@@ -37,6 +37,8 @@ class Item:
     """Heading level once the heading stage has chosen this item."""
     label: bool = False
     """A chapter label ("CHAPTER ONE") that introduces the next heading."""
+    notes: str = ""
+    """Processing marks (e.g. "merged" code)."""
 
     @property
     def first(self) -> TextBlock:
@@ -132,6 +134,13 @@ def _roman(token: str) -> int:
     return max(total, 1)
 
 
+def _marker_is_mono(line: Line) -> bool:
+    for piece in line.pieces:
+        if piece.text.strip():
+            return piece.mono
+    return False
+
+
 def split_items(block: TextBlock) -> list[TextBlock]:
     """Cut a block before every line that starts a list item at the block's marker position."""
     parts: list[TextBlock] = []
@@ -158,9 +167,11 @@ def classify(block: TextBlock, vocab: set[str]) -> Item:
     lines = block.lines
     chars = sum(len(ln.text.strip()) for ln in lines) or 1
     mono = sum(ln.mono * len(ln.text.strip()) for ln in lines) / chars
-    if mono >= 0.8:
-        return Item("code", [block], code_lines=code_lines(lines))
     marker = _marker(lines[0].text)
+    if marker is not None and _marker_is_mono(lines[0]):
+        marker = None  # "- item" inside a code listing
+    if mono >= 0.8 and marker is None:
+        return Item("code", [block], code_lines=code_lines(lines))
     if marker is not None:
         first = lines[0]
         hanging = all(ln.x0 >= first.x0 + 1.5 for ln in lines[1:])
@@ -191,7 +202,9 @@ def code_lines(lines: list[Line]) -> list[str]:
     out: list[str] = []
     for ln in lines:
         indent = int(round((ln.x0 - left) / char_w)) if char_w > 0 else 0
-        out.append(" " * max(0, min(indent, 80)) + ln.text.strip())
+        text = ln.text.rstrip()
+        lead = len(text) - len(text.lstrip())  # spaces the PDF kept as characters
+        out.append(" " * max(0, min(indent + lead, 80)) + text.lstrip())
     return out
 
 
@@ -209,11 +222,13 @@ def merge_code(items: list[Item]) -> list[Item]:
             if (same_page and first.column == last.column and -1 <= gap < 2.5 * size) or (
                 not same_page and first.page == last.page + 1
             ):
-                left = min(ln.x0 for ln in prev.lines + item.lines)
                 prev.blocks.append(first)
-                prev.code_lines = code_lines([ln for ln in prev.lines if ln.x0 >= left - 1])
+                prev.notes = "merged"
                 continue
         out.append(item)
+    for item in out:
+        if item.kind == "code" and item.notes == "merged":
+            item.code_lines = code_lines(item.lines)
     return out
 
 

@@ -227,4 +227,8 @@ def _breaks(prev: Line, line: Line) -> bool:
         return True
     if abs(prev.bold - line.bold) > 0.6 and (prev.bold > 0.9 or line.bold > 0.9):
         return True
-    return (prev.mono >= 0.8) != (line.mono >= 0.8)
+    if (prev.mono >= 0.8) != (line.mono >= 0.8):
+        # Code set apart from prose (indented or spaced); an inline code run that happens to
+        # fill a wrapped line of a paragraph stays in the paragraph.
+        return abs(line.x0 - prev.x0) > 3 or line.y0 - prev.y1 > 0.3 * size
+    return False
