@@ -81,6 +81,28 @@ class Feed:
         return seq
 
 
+def compensation(out: Path, committed_seq: int, committed: dict[str, list[str]]) -> list[FeedEntry]:
+    """Entries that undo feed lines written after the store's last commit (a crash between the
+    feed append and the commit), so the feed's view of every source equals the store's again.
+
+    `committed` maps each source to its committed ids (sources without a row have none).
+    Invariant kept by every commit: replaying the feed up to the store's last seq gives exactly
+    the ids of the store's rows.
+    """
+    views: dict[str, dict[str, None]] = {}
+    for entry in read_feed(out, after=committed_seq):
+        source = entry["source"]
+        view = views.setdefault(source, dict.fromkeys(committed.get(source, [])))
+        if entry["op"] == "upsert":
+            view[entry["id"]] = None
+        elif entry["op"] == "delete":
+            view.pop(entry["id"], None)
+    out_entries: list[FeedEntry] = []
+    for source, view in views.items():
+        out_entries += diff_ids(source, list(view), committed.get(source, []))
+    return out_entries
+
+
 def repair_tail(path: Path) -> int:
     """Cut a torn last line off the feed and return the last complete entry's seq (0 if none)."""
     try:

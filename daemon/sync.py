@@ -23,7 +23,7 @@ from pathlib import Path
 from segment.settings import Settings
 
 from daemon.durable import crashpoint, fsync_dir, remove_temps, write_atomic
-from daemon.feed import Feed, FeedEntry, diff_ids
+from daemon.feed import Feed, FeedEntry, compensation, diff_ids
 from daemon.lock import OutputLock
 from daemon.scope import Scope, display_name
 from daemon.store import FileState, StatSig, Store
@@ -32,7 +32,7 @@ from daemon.workers import Outcome, Task, WorkerPool, content_hash
 log = logging.getLogger(__name__)
 
 CHUNKS_DIR = "chunks"
-GROUP_FILES = 200
+GROUP_FILES = int(os.environ.get("DOCSEGMENT_GROUP_FILES", "200"))
 """Results per store transaction during a long reconcile (bounds the work a crash redoes)."""
 GROUP_SECONDS = 2.0
 RETRIES_ON_CHANGE = 3
@@ -108,12 +108,26 @@ class Syncer:
                 log.info("removed %d temp files left by an interrupted run", removed)
             self.store = Store.open(self.out)
             self.feed = Feed(self.out, self.store.last_seq)
+            self._recover_feed()
             self.scope = Scope(self.src, self.out, settings)
             self.pool = WorkerPool(settings, jobs)
         except BaseException:
             self.lock.release()
             raise
         self._group: _Group = _Group()
+
+    def _recover_feed(self) -> None:
+        """Undo feed entries a crash left past the last store commit (see `compensation`)."""
+        committed_seq = self.store.last_seq
+        if self.feed.last_seq <= committed_seq:
+            return
+        committed = {row.source: row.ids for row in self.store.all().values()}
+        entries = compensation(self.out, committed_seq, committed)
+        last = self.feed.append(entries)
+        with self.store.transaction():
+            self.store.set_meta("last_seq", last)
+        log.warning("the feed held entries past the last commit (interrupted run); "
+                    "appended %d entries to undo them", len(entries))
 
     def close(self) -> None:
         """Stop the workers, close the store, release the lock."""

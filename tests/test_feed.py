@@ -53,3 +53,18 @@ def test_replay_applies_upserts_and_deletes_as_set_operations(tmp_path: Path) ->
     ])
     assert replay(tmp_path) == {"y": "a.md"}
     assert [e["seq"] for e in read_feed(tmp_path, after=3)] == [4, 5]
+
+
+def test_entries_written_past_the_last_commit_are_undone_at_restart(tmp_path: Path) -> None:
+    from daemon.feed import compensation
+
+    feed = Feed(tmp_path)
+    feed.append([FeedEntry("upsert", "a.md", id="old")])  # committed: store says a.md -> [old]
+    # A crash between the feed append and the store commit left an edit's entries behind:
+    feed.append([FeedEntry("delete", "a.md", id="old"), FeedEntry("upsert", "a.md", id="new"),
+                 FeedEntry("upsert", "b.md", id="b1")])
+    undo = compensation(tmp_path, committed_seq=1, committed={"a.md": ["old"]})
+    assert sorted((e.op, e.source, e.id) for e in undo) == [
+        ("delete", "a.md", "new"), ("delete", "b.md", "b1"), ("upsert", "a.md", "old")]
+    feed.append(undo)
+    assert replay(tmp_path) == {"old": "a.md"}  # the feed's view equals the store's again
