@@ -22,8 +22,8 @@ from dataclasses import dataclass, field
 from lxml import etree
 
 from segment.adapters.html.tags import tag_of
-from segment.adapters.html.text import flat_text, line_range
-from segment.tree import Row, Span, Table
+from segment.adapters.html.text import collapse, flat_text, has_block, spaced_text
+from segment.tree import Row, Span, Table, merge_spans
 
 MAX_COLSPAN = 1000
 MAX_ROWSPAN = 65534
@@ -35,7 +35,6 @@ _DIGITS = re.compile(r"\s*(\d+)")
 class _Cell:
     text: str
     header: bool
-    span: Span
 
 
 @dataclass(slots=True)
@@ -69,6 +68,8 @@ def table_kind(el: etree._Element) -> str:
 
 
 def _looks_like_link_bar(el: etree._Element) -> bool:
+    if el.find(".//a[@href]") is None:
+        return False
     rows = list(_iter_rows(el))
     if not rows or len(rows) > 3 or el.find("thead") is not None or el.find("caption") is not None:
         return False
@@ -151,8 +152,10 @@ def build_table(el: etree._Element, caption: str | None = None) -> Table:
                 break
         if head == len(grid.rows):  # a table of header cells only: keep them as rows
             head = 0
-    span_lines = line_range(el.sourceline, "".join(el.itertext()))
-    return Table(header=rows_out[:head], rows=rows_out[head:], caption=caption, span=Span(lines=span_lines))
+    span = merge_spans([r.span for r in rows_out])
+    if el.sourceline is not None:
+        span = span.merge(Span(lines=(el.sourceline, el.sourceline)))
+    return Table(header=rows_out[:head], rows=rows_out[head:], caption=caption, span=span)
 
 
 def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int:
@@ -161,10 +164,9 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
     growing: list[tuple[int, int, int, _Cell]] = []  # (x, width, y_from, cell) for rowspan=0
     group_end = y_start
     for tr in rows:
-        lines = line_range(tr.sourceline, "".join(tr.itertext()))
-        row_span = Span(lines=lines)
+        start = tr.sourceline
+        row_span = Span(lines=(start, start) if start is not None else None)
         grid.ensure(y, 0, row_span)
-        grid.row_spans[y] = row_span
         for gx, gw, _, gcell in growing:
             for x in range(gx, gx + gw):
                 grid.ensure(y, x, row_span)
@@ -179,7 +181,12 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
                 x += 1
             colspan = _span_number(td.get("colspan"), 1, 1, MAX_COLSPAN)
             rowspan = _span_number(td.get("rowspan"), 1, 0, MAX_ROWSPAN)
-            cell = _Cell(flat_text(td), tag == "th", Span(lines=line_range(td.sourceline, "".join(td.itertext()))))
+            raw = spaced_text(td) if has_block(td) else "".join(td.itertext())
+            cell = _Cell(collapse(raw, breaks=False), tag == "th")
+            if start is not None and td.sourceline is not None:
+                end = td.sourceline + raw.rstrip().count("\n")
+                if end > row_span.lines[1]:  # type: ignore[index]
+                    row_span = Span(lines=(start, end))
             height = 1 if rowspan == 0 else rowspan
             for dy in range(height):
                 for dx in range(colspan):
@@ -190,6 +197,7 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
                 growing.append((x, colspan, y, cell))
             group_end = max(group_end, y + height)
             x += colspan
+        grid.row_spans[y] = row_span
         y += 1
         group_end = max(group_end, y)
     # Cells spanning past the group's last row lengthen the table ("ending a row group").
