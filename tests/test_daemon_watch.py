@@ -1,0 +1,261 @@
+"""Watching a real folder: editor saves, folder operations, watcher faults, signals.
+
+Every test waits on the `Watcher.sync()` cookie barrier (RELIABILITY W11) or on a subprocess's
+output with a deadline, never on a fixed sleep.
+"""
+
+from __future__ import annotations
+
+import logging
+import os
+import shutil
+import signal
+import subprocess
+import sys
+import time
+from collections.abc import Iterator
+from pathlib import Path
+
+import pytest
+
+from daemon import Watcher, read_status, reconcile
+from daemon.watch import _Enqueue
+from segment.settings import Settings
+from tests.daemon_helpers import assert_feed_matches, chunk_files, feed, page, tree_of, write
+
+QUIET_MS = 50
+
+
+@pytest.fixture
+def docs(tmp_path: Path) -> Path:
+    root = tmp_path / "docs"
+    tree_of(6, root)
+    return root
+
+
+@pytest.fixture
+def watcher(docs: Path, tmp_path: Path) -> Iterator[Watcher]:
+    with Watcher(docs, tmp_path / "out", Settings(), quiet_ms=QUIET_MS) as w:
+        yield w
+
+
+def assert_matches_fresh_build(src: Path, out: Path, tmp_path: Path) -> None:
+    fresh = tmp_path / f"fresh-{time.monotonic_ns()}"
+    reconcile(src, fresh, full=True)
+    assert chunk_files(out) == chunk_files(fresh)
+    assert_feed_matches(out)
+
+
+def test_sync_reflects_every_write_made_before_it(watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W11 meta-test: 100 writes, one sync(), all reflected, no sleep.
+    for i in range(100):
+        write(docs / "bulk" / f"note{i}.md", page(f"Pilot roles {i}"))
+    watcher.sync(30)
+    assert sum(1 for name in chunk_files(tmp_path / "out") if name.startswith("bulk/")) == 100
+
+
+@pytest.mark.parametrize("temp", ["doc.md.tmp123", ".doc.md.swp", ".goutputstream-AB12", "doc.md~", ".#doc.md"])
+def test_an_atomic_save_through_a_temp_file_is_one_parse_of_the_page(
+        watcher: Watcher, docs: Path, tmp_path: Path, temp: str) -> None:
+    # RELIABILITY W3: the only event for the page is moved(src=temp, dest=page).
+    write(docs / "doc.md", page("Battery care", "Charge to 60 percent for storage."))
+    watcher.sync(10)
+    parsed = watcher.report.parsed
+    write(docs / temp, page("Battery care", "Charge to 40 percent for storage."))
+    os.replace(docs / temp, docs / "doc.md")
+    watcher.sync(10)
+    assert b"40 percent" in chunk_files(tmp_path / "out")["doc.md.jsonl"]
+    assert watcher.report.parsed == parsed + 1
+    assert not any(name.startswith((".", "doc.md~")) for name in chunk_files(tmp_path / "out"))
+
+
+def test_a_vim_style_save_of_unchanged_text_announces_nothing(watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W4: 4913 probe, rename to a backup, new file, backup removed.
+    text = page("Flight logs", "Export the log after each flight.")
+    write(docs / "doc.md", text)
+    watcher.sync(10)
+    seq = feed(tmp_path / "out")[-1]["seq"]
+    write(docs / "4913", "")
+    (docs / "4913").unlink()
+    os.rename(docs / "doc.md", docs / "doc.md~")
+    write(docs / "doc.md", text)
+    (docs / "doc.md~").unlink()
+    watcher.sync(10)
+    assert [e for e in feed(tmp_path / "out") if e["seq"] > seq] == []
+    assert "doc.md.jsonl" in chunk_files(tmp_path / "out")
+
+
+def test_repeated_saves_are_coalesced_and_identical_bytes_parse_nothing(
+        watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W5: identical rewrites: no new chunk ids; rapid versions: the last one wins.
+    target = docs / "area0" / "page0.md"
+    before = chunk_files(tmp_path / "out")
+    parsed = watcher.report.parsed
+    data = target.read_bytes()
+    for _ in range(50):
+        target.write_bytes(data)
+    watcher.sync(10)
+    assert chunk_files(tmp_path / "out") == before
+    assert watcher.report.parsed - parsed <= 1
+    for i in range(50):
+        write(target, page("Firmware updates", f"Version {i} of the flashing guide."))
+    watcher.sync(10)
+    assert b"Version 49 of" in chunk_files(tmp_path / "out")["area0/page0.md.jsonl"]
+    assert watcher.report.parsed - parsed < 25
+
+
+def test_folder_trees_made_copied_moved_and_removed_converge(
+        watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W8: mkdir -p + files, copytree, move in from outside, move within, move out.
+    deep = docs / "a" / "b" / "c" / "d"
+    deep.mkdir(parents=True)
+    for i in range(50):
+        write(deep / f"f{i}.md", page(f"Spare parts {i}"))
+    shutil.copytree(docs / "a", docs / "copy")
+    outside = tmp_path / "incoming"
+    tree_of(5, outside)
+    os.rename(outside, docs / "moved-in")
+    write(docs / "moved-in" / "area0" / "late.md", page("Late page"))
+    os.rename(docs / "area1", docs / "a" / "renamed")
+    os.rename(docs / "area2", tmp_path / "moved-out")
+    shutil.rmtree(docs / "copy" / "b" / "c")
+    watcher.sync(30)
+    assert_matches_fresh_build(docs, tmp_path / "out", tmp_path)
+
+
+def test_a_dead_observer_thread_is_restarted_and_nothing_is_missed(
+        watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W10: detected by the supervisor, restarted, then a full reconcile.
+    assert watcher.loop is not None
+    watcher.loop.observer.stop()
+    watcher.loop.observer.join(5)
+    write(docs / "while-deaf.md", page("Geofences", "Draw the no-fly zone first."))
+    watcher.sync(10)  # the supervisor's full reconcile releases the barrier
+    assert "while-deaf.md.jsonl" in chunk_files(tmp_path / "out")
+    assert watcher.loop.observer_restarts == 1
+    write(docs / "after.md", page("Pilot roles"))
+    watcher.sync(10)
+    assert "after.md.jsonl" in chunk_files(tmp_path / "out")
+    assert read_status(tmp_path / "out").counters["observer_restarts"] == 1  # type: ignore[union-attr]
+
+
+def test_a_queue_overflow_leads_to_a_full_reconcile(watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W1: watchdog only logs the overflow (then rebuilds its watches). Events are
+    # lost here by unscheduling the watch; the log line has to bring the output back.
+    assert watcher.loop is not None
+    watcher.loop.observer.unschedule_all()
+    write(docs / "lost.md", page("Battery care", "This event never arrives."))
+    (docs / "area0" / "page0.md").unlink()
+    logging.getLogger("watchdog.observers.inotify_c").warning(
+        "Inotify queue overflowed; filesystem events were lost")
+    watcher.loop.observer.schedule(_Enqueue(watcher.loop.events), str(docs), recursive=True)
+    watcher.sync(10)
+    assert "lost.md.jsonl" in chunk_files(tmp_path / "out")
+    assert "area0/page0.md.jsonl" not in chunk_files(tmp_path / "out")
+    watcher.sync(10)
+    assert read_status(tmp_path / "out").counters["overflow_recrawls"] == 1  # type: ignore[union-attr]
+
+
+def test_output_inside_the_watched_folder_causes_no_feedback_loop(docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W14: our own writes under SRC must not trigger more work.
+    with Watcher(docs, docs / "_out", Settings(), quiet_ms=QUIET_MS) as w:
+        write(docs / "new.md", page("Geofences"))
+        w.sync(10)
+        parsed, scanned = w.report.parsed, w.report.scanned
+        w.sync(10)
+        w.sync(10)
+        assert (w.report.parsed, w.report.scanned) == (parsed, scanned)
+    assert not any(name.startswith("_out") for name in chunk_files(docs / "_out"))
+
+
+# -- the `segment watch` process ---------------------------------------------------------------
+
+
+def start_watch(src: Path, out: Path, **env: str) -> subprocess.Popen[str]:
+    environ = {k: v for k, v in os.environ.items() if not k.startswith("DOCSEGMENT_")}
+    environ.update(env)
+    return subprocess.Popen(
+        [sys.executable, "-m", "segment", "watch", str(src), "-o", str(out), "--quiet-ms", "50"],
+        env=environ, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
+    )
+
+
+def wait_for_line(proc: subprocess.Popen[str], needle: str, timeout: float = 30.0) -> str:
+    assert proc.stderr is not None
+    deadline = time.monotonic() + timeout
+    seen = []
+    while time.monotonic() < deadline:
+        line = proc.stderr.readline()
+        if not line:
+            break
+        seen.append(line)
+        if needle in line:
+            return line
+    proc.kill()
+    raise AssertionError(f"{needle!r} not seen in: {''.join(seen)}")
+
+
+def wait_for(predicate: object, timeout: float = 20.0) -> None:
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        if predicate():  # type: ignore[operator]
+            return
+        time.sleep(0.02)  # polling a condition with a deadline, not waiting a fixed time
+    raise AssertionError("condition not met in time")
+
+
+def test_sigint_finishes_the_batch_and_exits_0_and_a_second_watcher_is_refused(docs: Path, tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    proc = start_watch(docs, out)
+    try:
+        wait_for_line(proc, "watching")
+        write(docs / "fresh.md", page("Firmware updates"))
+        wait_for(lambda: (out / "chunks" / "fresh.md.jsonl").exists())
+        # RELIABILITY S5: a second daemon on the same output exits at once with a clear error.
+        second = start_watch(docs, out)
+        _, err = second.communicate(timeout=20)
+        assert second.returncode == 1 and "another docsegment build or watch" in err
+        proc.send_signal(signal.SIGINT)
+        _, err = proc.communicate(timeout=30)
+        assert proc.returncode == 0, err
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+
+
+def test_a_second_ctrl_c_aborts_a_stuck_batch_with_130(docs: Path, tmp_path: Path) -> None:
+    (docs / "segment.toml").write_text("timeout_s = 60\n")
+    out = tmp_path / "out"
+    proc = start_watch(docs, out, DOCSEGMENT_TEST_HOOKS="1")
+    try:
+        wait_for_line(proc, "watching")
+        write(docs / "stuck.hang.md", page("Never parsed"))
+        time_limit = time.monotonic() + 20
+        # wait until the batch with the hanging parse has started (its worker is busy)
+        wait_for(lambda: _children_busy(proc.pid) or time.monotonic() > time_limit)
+        proc.send_signal(signal.SIGINT)
+        wait_for_line(proc, "stopping after the current batch")
+        proc.send_signal(signal.SIGINT)
+        _, err = proc.communicate(timeout=30)
+        assert proc.returncode == 130, err
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+
+
+def _children_busy(pid: int) -> bool:
+    """True when some descendant of `pid` is running (a worker spinning on the hang file)."""
+    try:
+        out = subprocess.run(["ps", "-o", "stat=,ppid=,pid=", "-e"], capture_output=True, text=True).stdout
+    except OSError:
+        return True
+    rows = [line.split() for line in out.splitlines() if len(line.split()) == 3]
+    kids: dict[int, list[tuple[str, int]]] = {}
+    for stat, ppid, child in rows:
+        kids.setdefault(int(ppid), []).append((stat, int(child)))
+    stack, running = [pid], False
+    while stack:
+        for stat, child in kids.get(stack.pop(), []):
+            running |= stat.startswith("R")
+            stack.append(child)
+    return running
