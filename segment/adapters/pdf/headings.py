@@ -85,6 +85,8 @@ def is_candidate(item: Item, stats: FontStats) -> bool:
     """Whether a text block looks like a heading by style and shape."""
     if item.kind != "text" or len(item.first.lines) > MAX_LINES:
         return False
+    if any("boxed" in ln.flags for ln in item.first.lines):
+        return False
     text = item.text.strip()
     if not text or len(text) > MAX_CHARS or not _LETTERS.search(text):
         return False

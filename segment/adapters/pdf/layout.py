@@ -223,12 +223,12 @@ def _breaks(prev: Line, line: Line) -> bool:
     size = min(prev.size, line.size) or 1.0
     if line.y0 - prev.y1 > 0.7 * size:
         return True
+    if (prev.mono >= 0.8) != (line.mono >= 0.8):
+        # Code set apart from prose (indented or spaced); an inline code run that happens to
+        # fill a wrapped line of a paragraph stays in the paragraph, whatever its type size.
+        return abs(line.x0 - prev.x0) > 3 or line.y0 - prev.y1 > 0.5 * size
     if abs(prev.size - line.size) > 0.6:
         return True
     if abs(prev.bold - line.bold) > 0.6 and (prev.bold > 0.9 or line.bold > 0.9):
         return True
-    if (prev.mono >= 0.8) != (line.mono >= 0.8):
-        # Code set apart from prose (indented or spaced); an inline code run that happens to
-        # fill a wrapped line of a paragraph stays in the paragraph.
-        return abs(line.x0 - prev.x0) > 3 or line.y0 - prev.y1 > 0.3 * size
     return False

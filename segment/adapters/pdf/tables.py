@@ -221,6 +221,8 @@ def grid_tables(
         # Open frames (no outer verticals or no outer rules) still bound the table.
         ys = _cluster([r.h[i][0] for i in hs] + [min(r.v[j][1] for j in vs), max(r.v[j][2] for j in vs)], 4.0)
         xs = _cluster([r.v[j][0] for j in vs] + [min(r.h[i][1] for i in hs), max(r.h[i][2] for i in hs)], 4.0)
+        if len(xs) == 2 and len(ys) == 2:
+            _mark_boxed(lines, (xs[0], ys[0], xs[1], ys[1]))
         if len(xs) < 3 or len(ys) < 2:
             continue
         table = _grid_table(page_no, r, [r.v[j] for j in vs], xs, ys, words, lines)
@@ -277,6 +279,17 @@ def _grid_table(
         header = [rows.pop(0)]
         boxes.pop(0)
     return FoundTable(page_no, bbox, header, rows, boxes, "grid")
+
+
+def _mark_boxed(lines: list[Line], box: tuple[float, float, float, float]) -> None:
+    """Flag lines inside a ruled frame: boxed notes, listings and one-column tables are never
+    headings."""
+    x0, y0, x1, y1 = box
+    if x1 - x0 < 20 or y1 - y0 < 8:
+        return
+    for ln in lines:
+        if x0 - 1 <= ln.x0 and ln.x1 <= x1 + 1 and y0 - 1 <= ln.y0 and ln.y1 <= y1 + 1:
+            ln.flags.add("boxed")
 
 
 def _text_row_breaks(words: list[Word]) -> list[float]:
