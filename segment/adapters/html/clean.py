@@ -9,7 +9,8 @@ The rule, in order:
    `navheader`/`navfooter`, Sphinx's `sphinxsidebar`). A `header` is dropped unless it sits
    inside `main`/`article` (there it is the article's own header and often holds the `h1`).
 2. The main content is the first `main`, else the first `role="main"`, else a lone `article`
-   (several articles: their common parent), else the result of descending from `body` while one
+   (several articles: their common parent), each only if it holds at least 30% of the page's
+   non-link text (an empty placeholder `main` filled by scripts does not count), else the result of descending from `body` while one
    wrapper child (`div`, `section`, `span`, a layout `td`...) holds at least 90% of the remaining
    non-link text and every heading (so a page without landmarks keeps all its headed content,
    and sidebars of links fall away).
@@ -38,6 +39,10 @@ from segment.adapters.html.tags import (
 BREAK = "\ufdd0"
 """Marks a `<br>` in text outside `pre`: a Unicode noncharacter, never meant to appear in pages
 (lxml refuses NUL in text). A stray U+FDD0 in a page would read as a line break."""
+
+LANDMARK_SHARE = 0.3
+"""A `main`/`article` landmark is used only when it holds this share of the page's non-link text
+(a script-filled `<main></main>` placeholder must not empty the page)."""
 
 MAIN_SHARE = 0.9
 """A child must hold this share of its parent's non-link text for the heuristic to descend."""
@@ -168,18 +173,24 @@ def _choose_main(
     role_mains: list[etree._Element],
     articles: list[etree._Element],
 ) -> etree._Element:
+    total: list[int] = []  # the body's text weight, computed once and only when needed
+
+    def holds_content(el: etree._Element) -> bool:
+        if not total:
+            total.append(_text_weight(body))
+        return _text_weight(el) >= LANDMARK_SHARE * total[0]
+
     for candidates in (mains, role_mains):
         for el in candidates:
-            if el is body or _attached(el, body):
+            if (el is body or _attached(el, body)) and holds_content(el):
                 return el
     live = [a for a in articles if _attached(a, body)]
-    if len(live) == 1:
+    if len(live) == 1 and holds_content(live[0]):
         return live[0]
     if len(live) > 1:
         parent = live[0].getparent()
-        if parent is not None and all(a.getparent() is parent for a in live):
+        if parent is not None and all(a.getparent() is parent for a in live) and holds_content(parent):
             return parent
-        return body
     return _densest(body)
 
 

@@ -50,7 +50,8 @@ from segment.tree import (
 _CONTAINER, _LIST, _DL = 0, 1, 2
 _ALERT = re.compile(r"^\[!(\w+)\][ \t]*\n?")
 _LANG_PREFIXES = ("language-", "lang-", "highlight-", "sourcecode-")
-_NO_LANG = {"default", "none", "text", "plain", "nohighlight", "plaintext"}
+_NO_LANG = {"default", "none", "nohighlight"}
+"""Class suffixes that name no language (Sphinx `highlight-default`, highlight.js `nohighlight`)."""
 _ADMONITION_NAMES = ("warning", "caution", "danger", "important", "tip", "hint", "note", "attention")
 _MAX_LABEL = 80
 
@@ -385,8 +386,6 @@ class Walker:
                     node.blocks.pop(0)
         if not node.blocks and not node.label:
             return
-        if not node.blocks and node.label:
-            node.blocks.append(Paragraph(node.label, Span(lines=_lines(f.start, f.line))))
         node.span = Span(lines=_lines(f.start, f.line))
         self._add(f.parent_sink, node)
 
