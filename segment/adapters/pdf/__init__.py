@@ -104,15 +104,20 @@ def _parse_open(
         raise ParseError(source, "no text layer on any page (OCR not performed)", status="no_text")
     t1 = time.perf_counter()
 
-    removed = running.find_running(pages, heights)
-    table_time = 0.0
+    ts = time.perf_counter()
+    page_rulings = [tables.rulings(doc[i]) if table_engine != "none" else tables.Rulings() for i in range(doc.page_count)]
+    grids = [tables.grid_boxes(r) for r in page_rulings]
+    table_time = time.perf_counter() - ts
+    removed = running.find_running(pages, heights, grids)
     table_pages = 0
     flows: list[blk.Item] = []
     for index, lines in enumerate(pages):
         body = [ln for ln in lines if "running" not in ln.flags]
         if table_engine != "none" and body:
             ts = time.perf_counter()
-            found, candidate = tables.find_page_tables(doc[index], index + 1, body, table_engine)
+            found, candidate = tables.find_page_tables(
+                doc[index], index + 1, body, table_engine, page_rulings[index]
+            )
             table_pages += int(candidate)
             body = _place_tables(body, found)
             table_time += time.perf_counter() - ts
@@ -147,6 +152,7 @@ def _parse_open(
             "pages": doc.page_count,
             "removed_running_lines": len(removed),
             "running_line_samples": sorted({" ".join(ln.text.split()) for ln in removed})[:12],
+            "running_line_texts": [" ".join(ln.text.split()) for ln in removed],
             "body_font_size": stats.body_size,
             "headings_from": "outline" if toc else "fonts",
             "outline_entries": len(toc),

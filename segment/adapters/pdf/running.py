@@ -34,16 +34,27 @@ def running_key(text: str) -> str:
 
 
 def is_page_number(text: str) -> bool:
-    """True for "7", "- 7 -", "Page 7 of 90", "vii"."""
-    return bool(_PAGE_NUMBER.match(running_key(text)))
+    """True for "7", "- 7 -", "Page 7 of 90", "vii" (not for a dot-leader contents line)."""
+    return ". ." not in text and bool(_PAGE_NUMBER.match(running_key(text)))
 
 
-def find_running(pages: list[list[Line]], heights: list[float]) -> list[Line]:
-    """Mark running lines on every page (flag "running") and return them in page order."""
+Box = tuple[float, float, float, float]
+
+
+def find_running(
+    pages: list[list[Line]], heights: list[float], grids: list[list[Box]] | None = None
+) -> list[Line]:
+    """Mark running lines on every page (flag "running") and return them in page order.
+
+    Lines inside a ruled grid (`grids`, per page) are table cells, such as a header row repeated
+    at the top of each page of a long table: never running lines.
+    """
     n_pages = len(pages)
     threshold = 2 if n_pages <= 4 else 3
     candidates: list[tuple[str, str, Line, bool]] = []
-    for lines, height in zip(pages, heights):
+    for index, (lines, height) in enumerate(zip(pages, heights)):
+        boxes = grids[index] if grids else []
+        lines = [ln for ln in lines if not any(_inside(ln, b) for b in boxes)]
         if not lines:
             continue
         ordered = sorted(lines, key=lambda ln: (ln.y0, ln.x0))
@@ -81,3 +92,8 @@ def find_running(pages: list[list[Line]], heights: list[float]) -> list[Line]:
             removed.append(line)
     removed.sort(key=lambda ln: (ln.page, ln.y0))
     return removed
+
+
+def _inside(line: Line, box: Box) -> bool:
+    cx, cy = (line.x0 + line.x1) / 2, (line.y0 + line.y1) / 2
+    return box[0] - 1 <= cx <= box[2] + 1 and box[1] - 1 <= cy <= box[3] + 1

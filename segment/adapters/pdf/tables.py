@@ -274,6 +274,9 @@ def _grid_table(
     used_cols = sum(1 for c in range(ncols) if any(row[c] for row in rows))
     if distinct < max(2, len(rows) // 3) or used_cols < 2:
         return None
+    text = "".join(c for row in rows for c in row)
+    if sum(ch.isalnum() for ch in text) < 0.3 * max(len(text), 1):
+        return None  # labels of a vector figure (dash rules, arrows), not a table
     header: list[list[str]] = []
     if _header_first(rows, boxes, r, lines):
         header = [rows.pop(0)]
@@ -479,11 +482,25 @@ def pymupdf_tables(page: pymupdf.Page, page_no: int) -> list[FoundTable]:
     return out
 
 
+def grid_boxes(r: Rulings) -> list[tuple[float, float, float, float]]:
+    """Boxes of ruled grids (connected horizontal and vertical rulings) on a page."""
+    if not is_candidate(r) or not r.v:
+        return []
+    boxes = []
+    for hs, vs in _components(r):
+        if hs and vs:
+            boxes.append((
+                min(r.h[i][1] for i in hs), min(r.v[j][1] for j in vs),
+                max(r.h[i][2] for i in hs), max(r.v[j][2] for j in vs),
+            ))
+    return boxes
+
+
 def find_page_tables(
-    page: pymupdf.Page, page_no: int, lines: list[Line], engine: str = "own"
+    page: pymupdf.Page, page_no: int, lines: list[Line], engine: str = "own", r: Rulings | None = None
 ) -> tuple[list[FoundTable], bool]:
     """Tables on one page, and whether the page was a candidate at all."""
-    r = rulings(page)
+    r = r if r is not None else rulings(page)
     if not is_candidate(r):
         return [], False
     if engine == "pymupdf":
