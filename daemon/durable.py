@@ -67,6 +67,16 @@ def write_atomic(dst: Path, data: bytes, *, sync_dir: bool = True) -> None:
         fsync_dir(dst.parent)
 
 
+def write_if_changed(dst: Path, data: bytes) -> None:
+    """`write_atomic` without the folder fsync, skipped when `dst` already holds `data`."""
+    try:
+        if dst.stat().st_size == len(data) and dst.read_bytes() == data:
+            return
+    except OSError:
+        pass
+    write_atomic(dst, data, sync_dir=False)
+
+
 def fsync_dir(folder: Path) -> None:
     """Make renames and unlinks inside `folder` durable."""
     fd = os.open(folder, os.O_RDONLY | os.O_DIRECTORY)

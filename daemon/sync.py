@@ -17,12 +17,13 @@ import logging
 import os
 import time
 from collections.abc import Callable, Iterable
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from segment.settings import Settings
 
-from daemon.durable import crashpoint, fsync_dir, remove_temps, write_atomic
+from daemon.durable import crashpoint, fsync_dir, remove_temps, write_if_changed
 from daemon.feed import Feed, FeedEntry, compensation, diff_ids
 from daemon.lock import OutputLock
 from daemon.scope import Scope, display_name
@@ -35,6 +36,7 @@ CHUNKS_DIR = "chunks"
 GROUP_FILES = int(os.environ.get("DOCSEGMENT_GROUP_FILES", "200"))
 """Results per store transaction during a long reconcile (bounds the work a crash redoes)."""
 GROUP_SECONDS = 2.0
+WRITER_THREADS = 4
 RETRIES_ON_CHANGE = 3
 """Attempts for a file that keeps changing while it is parsed, before waiting for a later pass."""
 RETRY_LIMIT = 3
@@ -111,6 +113,8 @@ class Syncer:
             self._recover_feed()
             self.scope = Scope(self.src, self.out, settings)
             self.pool = WorkerPool(settings, jobs)
+            # fsync waits on the disk: a few threads keep workers fed and let ext4 batch commits.
+            self._writer = ThreadPoolExecutor(WRITER_THREADS, thread_name_prefix="docsegment-write")
         except BaseException:
             self.lock.release()
             raise
@@ -132,6 +136,7 @@ class Syncer:
     def close(self) -> None:
         """Stop the workers, close the store, release the lock."""
         try:
+            self._writer.shutdown(wait=True)
             self.pool.close()
             self.store.close()
         finally:
@@ -275,8 +280,9 @@ class Syncer:
         group = self._group
         if outcome.status == "ok":
             assert outcome.sig is not None
-            write_atomic(self.chunk_path(rel), outcome.data, sync_dir=False)
-            group.dirs.add(self.chunk_path(rel).parent)
+            path = self.chunk_path(rel)
+            group.writes.append(self._writer.submit(write_if_changed, path, outcome.data))
+            group.dirs.add(path.parent)
             crashpoint("mid_batch")
             entries = diff_ids(source, old_ids, outcome.ids)
             if not announced:
@@ -329,15 +335,19 @@ class Syncer:
             path.unlink()
         except FileNotFoundError:
             pass
-        folder = path.parent
-        # Drop folders the deletion emptied, so OUT/chunks mirrors the current tree.
-        while folder != self.chunks and folder.is_relative_to(self.chunks):
-            try:
-                folder.rmdir()
-            except OSError:
-                break
-            folder = folder.parent
-        self._group.dirs.add(folder)
+        self._group.emptied.add(path.parent)
+
+    def _prune(self, folders: set[Path], dirs: set[Path]) -> None:
+        """Drop folders that deletions emptied, so OUT/chunks mirrors the current tree."""
+        for start in sorted(folders, key=lambda p: len(p.parts), reverse=True):
+            folder = start
+            while folder != self.chunks and folder.is_relative_to(self.chunks):
+                try:
+                    folder.rmdir()
+                except OSError:
+                    break
+                folder = folder.parent
+            dirs.add(folder)
 
     def _remove_orphans(self, known: set[str]) -> int:
         """Delete chunk files no store row accounts for (left by a crash or a lost store)."""
@@ -375,6 +385,9 @@ class Syncer:
         group, self._group = self._group, _Group()
         if group.empty():
             return
+        for future in group.writes:
+            future.result()  # a failed write or fsync aborts the group: nothing is committed
+        self._prune(group.emptied, group.dirs)
         for folder in sorted(group.dirs):
             if folder.is_dir():
                 fsync_dir(folder)
@@ -416,6 +429,11 @@ class _Group:
     rows: list[FileState] = field(default_factory=list)
     gone: list[str] = field(default_factory=list)
     dirs: set[Path] = field(default_factory=set)
+    """Folders to fsync before the feed is appended."""
+    emptied: set[Path] = field(default_factory=set)
+    """Folders that lost a chunk file (pruned when empty)."""
+    writes: list[Future[None]] = field(default_factory=list)
+    """Chunk files being written by the writer threads."""
     started: float = field(default_factory=time.monotonic)
 
     def empty(self) -> bool:
