@@ -101,6 +101,8 @@ def _parse_open(
                 warnings.append(f"page {index + 1}: no text layer (OCR not performed)")
         pages.append(lines)
     if len(no_text) == doc.page_count:
+        if doc.is_repaired:
+            raise ParseError(source, "damaged or truncated PDF: no readable text after repair", status="corrupt")
         raise ParseError(source, "no text layer on any page (OCR not performed)", status="no_text")
     t1 = time.perf_counter()
 

@@ -104,6 +104,8 @@ def join_lines(lines: list[str], vocab: set[str]) -> str:
                 out = out[:-1] + text
             else:
                 out = out + text
+        elif out.endswith(("-", "\u2010")) and len(out) > 1 and out[-2].isalpha() and text[:1].isupper():
+            out = out + text  # a compound broken at its own hyphen: "North-" + "West"
         else:
             out = out + " " + text
     return out.replace("\u00ad", "")

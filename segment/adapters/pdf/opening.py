@@ -41,6 +41,10 @@ def open_pdf(data: bytes, source: str, max_pages: int) -> tuple[pymupdf.Document
             raise TooLarge(source, f"PDF has {count} pages, over max_pages={max_pages}")
         if doc.is_repaired:
             warnings.append("repaired: text may be partial")
+    except (RuntimeError, ValueError) as exc:
+        doc.close()
+        flush_warnings(source)
+        raise ParseError(source, f"damaged or truncated PDF: {exc}", status="corrupt") from exc
     except BaseException:
         doc.close()
         flush_warnings(source)

@@ -1,0 +1,113 @@
+"""Small rules of the PDF adapter, one by one, on hand-made inputs."""
+
+from __future__ import annotations
+
+import pytest
+
+from segment.adapters.pdf.blocks import join_lines, vocabulary
+from segment.adapters.pdf.extract import Line, Piece, normalise_text
+from segment.adapters.pdf.headings import norm, numbering
+from segment.adapters.pdf.layout import find_gutters, order_page
+from segment.adapters.pdf.running import find_running, is_page_number, running_key
+
+
+def line(text: str, x0: float, y0: float, x1: float, page: int = 1, size: float = 10.0, block: int = 0) -> Line:
+    ln = Line(page, x0, y0, x1, y0 + size * 1.2, [Piece(text, x0, x1, size, False, False, False, False)], block)
+    ln.finish()
+    return ln
+
+
+@pytest.mark.parametrize(
+    ("raw", "want"),
+    [
+        ("\ufb01le", "file"),  # LATIN SMALL LIGATURE FI (Unicode compatibility decomposition)
+        ("e\ufb03cient", "efficient"),  # LATIN SMALL LIGATURE FFI
+        ("a\u00a0b", "a b"),  # NO-BREAK SPACE
+        ("\uff21\uff22", "AB"),  # FULLWIDTH LATIN CAPITAL LETTERS
+        ("x\u00b2", "x\u00b2"),  # SUPERSCRIPT TWO keeps its meaning: not folded
+        ("\u00bd", "\u00bd"),  # VULGAR FRACTION ONE HALF: not folded
+    ],
+)
+def test_nfkc_only_where_safe(raw: str, want: str) -> None:
+    # Unicode Standard Annex #15: NFKC folds compatibility characters; we fold only the tags
+    # that keep meaning (<compat>, <noBreak>, <wide>, <narrow>, <font>, <small>).
+    assert normalise_text(raw) == want
+
+
+def test_hyphen_joined_when_word_occurs_elsewhere() -> None:
+    vocab = vocabulary([line("the information desk", 0, 0, 100)])
+    assert join_lines(["see the infor-", "mation desk"], vocab) == "see the information desk"
+
+
+def test_hyphen_kept_when_word_unknown() -> None:
+    vocab = vocabulary([line("nothing relevant", 0, 0, 100)])
+    assert join_lines(["a state-", "of-the-art drone"], vocab) == "a state-of-the-art drone"
+
+
+def test_soft_hyphen_always_joins() -> None:
+    # U+00AD SOFT HYPHEN marks a break opportunity, not a character of the word.
+    assert join_lines(["recali\u00ad", "bration done"], set()) == "recalibration done"
+
+
+def test_capitalised_continuation_keeps_hyphen() -> None:
+    assert join_lines(["North-", "West corridor"], {"northwest"}) == "North-West corridor"
+
+
+@pytest.mark.parametrize(
+    ("text", "depth"),
+    [("2 Planning", 2 - 1), ("2.3 Routes", 2), ("A.1 Limits", 2), ("Chapter 4 Docks", 1), ("IV. Annex", 1), ("Planning", None)],
+)
+def test_numbering_depth(text: str, depth: int | None) -> None:
+    assert numbering(text) == depth
+
+
+def test_norm_drops_numbers_case_and_punctuation() -> None:
+    assert norm("1.2.  Flight PLANNING:") == norm("Flight planning") == "flight planning"
+
+
+@pytest.mark.parametrize("text", ["7", "- 7 -", "Page 7 of 90", "vii", "12 / 233"])
+def test_page_number_forms(text: str) -> None:
+    assert is_page_number(text) or running_key(text) in ("# / #",)
+
+
+def test_contents_leader_is_not_a_page_number() -> None:
+    assert not is_page_number(". . . . . . . . 127")
+
+
+def test_running_heads_with_changing_numbers_and_alternation() -> None:
+    pages = []
+    for n in range(1, 9):
+        head = "Northwind Fleet Manual" if n % 2 else "Chapter 2. Docks"
+        pages.append(
+            [
+                line(head, 72, 30, 300, page=n),
+                line(f"Body text of page {n} that is unique.", 72, 100, 500, page=n),
+                line(str(n), 300, 760, 306, page=n),
+            ]
+        )
+    removed = find_running(pages, [792.0] * 8)
+    assert len(removed) == 16
+    assert all("Body" not in ln.text for ln in removed)
+
+
+def test_two_columns_read_column_by_column() -> None:
+    lines = []
+    for i in range(12):
+        y = 100 + i * 14
+        lines.append(line(f"left column line {i} of running text here", 50, y, 290, block=1))
+        lines.append(line(f"right column line {i} of running text here", 310, y, 550, block=2))
+    assert len(find_gutters(lines)) == 1
+    blocks = order_page(lines)
+    text = " ".join(b.text for b in blocks)
+    assert text.index("left column line 11") < text.index("right column line 0")
+
+
+def test_key_value_rows_are_not_columns() -> None:
+    lines = []
+    for i in range(12):
+        y = 100 + i * 14
+        lines.append(line(f"key{i}", 50, y, 80, block=1))
+        lines.append(line(f"what key {i} does, in a few words", 200, y, 400, block=1))
+    assert find_gutters(lines) == []
+    blocks = order_page(lines)
+    assert blocks[0].lines[0].text.startswith("key0") and "what key 0" in blocks[0].lines[0].text
