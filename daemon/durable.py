@@ -32,8 +32,9 @@ def crashpoint(label: str) -> None:
 
 
 def temp_name(dst: Path) -> Path:
-    """A unique temp path beside `dst`, recognisable by its suffix for cleanup."""
-    return dst.with_name(f".{dst.name}.{secrets.token_hex(4)}{TMP_SUFFIX}")
+    """A unique temp path beside `dst`, recognisable by its suffix for cleanup (short, so a
+    long `dst` name cannot push it past the file system's name limit)."""
+    return dst.with_name(f".docsegment-{secrets.token_hex(6)}{TMP_SUFFIX}")
 
 
 def write_atomic(dst: Path, data: bytes, *, sync_dir: bool = True) -> None:

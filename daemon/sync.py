@@ -12,6 +12,7 @@ For a set of candidate paths (the whole tree, a folder, or the paths of a watch 
 
 from __future__ import annotations
 
+import hashlib
 import json
 import logging
 import os
@@ -351,7 +352,8 @@ class Syncer:
 
     def _remove_orphans(self, known: set[str]) -> int:
         """Delete chunk files no store row accounts for (left by a crash or a lost store)."""
-        orphans: list[str] = []
+        expected = {self.chunk_path(rel) for rel in known}
+        orphans: list[Path] = []
         stack = [self.chunks]
         while stack:
             folder = stack.pop()
@@ -362,17 +364,16 @@ class Syncer:
             for entry in entries:
                 if entry.is_dir(follow_symlinks=False):
                     stack.append(Path(entry.path))
-                elif entry.name.endswith(".jsonl"):
-                    rel = os.path.relpath(entry.path, self.chunks).replace(os.sep, "/")[: -len(".jsonl")]
-                    if rel not in known:
-                        orphans.append(rel)
+                elif entry.name.endswith(".jsonl") and Path(entry.path) not in expected:
+                    orphans.append(Path(entry.path))
         if not orphans:
             return 0
         report = SyncReport()
         self._group = _Group()
-        for rel in sorted(orphans):
-            ids = self._ids_in_chunk_file(rel)
-            self._delete(FileState(rel, display_name(rel), StatSig(0, 0, 0, 0, 0), "", "", ids), report)
+        for path in sorted(orphans):
+            ids, source = _read_ids(path)
+            self._unlink_chunk_file(path)
+            self._group.entries += [FeedEntry("delete", source, id=i) for i in dict.fromkeys(ids)]
         self._group.gone.clear()  # no rows to drop
         self._flush(report)
         log.info("removed %d chunk files whose sources are gone", len(orphans))
@@ -406,15 +407,42 @@ class Syncer:
     # -- chunk files -----------------------------------------------------------------------
 
     def chunk_path(self, rel: str) -> Path:
-        """OUT/chunks/<relpath>.jsonl."""
-        return self.chunks / (rel + ".jsonl")
+        """OUT/chunks/<relpath>.jsonl (see `chunk_name` for names too long for that)."""
+        folder, _, name = rel.rpartition("/")
+        return self.chunks / folder / chunk_name(name) if folder else self.chunks / chunk_name(name)
 
     def _ids_in_chunk_file(self, rel: str) -> list[str]:
-        try:
-            with open(self.chunk_path(rel), "rb") as fh:
-                return [json.loads(line)["id"] for line in fh if line.strip()]
-        except (OSError, ValueError, KeyError, TypeError):
-            return []
+        return _read_ids(self.chunk_path(rel))[0]
+
+
+def _read_ids(path: Path) -> tuple[list[str], str]:
+    """Chunk ids in a chunk file, and the source its records name ("" when unreadable)."""
+    ids: list[str] = []
+    source = ""
+    try:
+        with open(path, "rb") as fh:
+            for line in fh:
+                if line.strip():
+                    record = json.loads(line)
+                    ids.append(record["id"])
+                    source = source or record["source"]
+    except (OSError, ValueError, KeyError, TypeError):
+        pass
+    return ids, source
+
+
+NAME_MAX = 255
+
+
+def chunk_name(name: str) -> str:
+    """`<name>.jsonl`, or, when that is over the 255-byte name limit, a shortened name plus a
+    hash of the full name (the records inside still carry the full source path)."""
+    full = name + ".jsonl"
+    if len(os.fsencode(full)) <= NAME_MAX:
+        return full
+    digest = hashlib.blake2b(os.fsencode(name), digest_size=8).hexdigest()
+    head = os.fsencode(name)[:200].decode("utf-8", "ignore")
+    return f"{head}~{digest}.jsonl"
 
 
 class SourceMissing(RuntimeError):
@@ -437,7 +465,7 @@ class _Group:
     started: float = field(default_factory=time.monotonic)
 
     def empty(self) -> bool:
-        return not (self.entries or self.rows or self.gone)
+        return not (self.entries or self.rows or self.gone or self.writes or self.emptied)
 
     def due(self) -> bool:
         size = len(self.rows) + len(self.gone)

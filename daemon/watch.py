@@ -225,14 +225,19 @@ class WatchLoop:
         return report
 
     def _supervise(self) -> Sequence[Change]:
-        """Idle-time checks: dead observer, returning root, periodic rescan."""
+        """Idle-time checks: vanished or returning root, dead observer, periodic rescan."""
+        if not self.syncer.src.is_dir():
+            if self.degraded != "root_missing":
+                log.error("%s: source folder is missing; paused until it is back (output kept)",
+                          self.syncer.src)
+                self.degraded = "root_missing"
+                self._set_meta(degraded=self.degraded)
+            return ()
         if self.degraded == "root_missing":
-            if not self.syncer.src.is_dir():
-                return ()
             log.warning("%s is back; resuming", self.syncer.src)
             self._restart_observer()
             return [FULL]
-        if self.observer is not None and not self.observer.is_alive():
+        if self.observer is None or not self.observer.is_alive():
             log.error("the file watcher thread died; restarting it and rescanning everything")
             self.observer_restarts += 1
             self._bump("observer_restarts")
@@ -253,7 +258,13 @@ class WatchLoop:
                 self.observer.stop()
         except Exception:  # noqa: BLE001 - it is being replaced anyway
             pass
-        self._start_observer()
+        try:
+            self._start_observer()
+        except OSError as exc:  # e.g. the root vanished again: the next idle check retries
+            log.error("cannot restart the file watcher on %s: %s", self.syncer.src, exc)
+            self.observer = None
+            self.degraded = "root_missing" if not self.syncer.src.is_dir() else "watch_failed"
+            self._set_meta(degraded=self.degraded)
 
     # -- barrier ---------------------------------------------------------------------------
 

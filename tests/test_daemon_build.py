@@ -217,3 +217,23 @@ def test_status_prints_counts_failures_and_seq(src: Path, tmp_path: Path, capsys
     data = json.loads(capsys.readouterr().out)
     assert data["files"] == 6 and data["failed"] == [] and data["degraded"] is None
     assert data["chunks"] == len(current_ids(out))
+
+
+def test_odd_file_names_round_trip_and_every_feed_line_is_strict_utf8(tmp_path: Path) -> None:
+    # RELIABILITY W15: undecodable bytes, a newline, NFD forms and a 255-byte name.
+    src, out = tmp_path / "docs", tmp_path / "out"
+    src.mkdir()
+    names = [b"bad\xff.md", b"two\nlines.md", "cafe\u0301.md".encode(), b"n" * 252 + b".md"]
+    for i, name in enumerate(names):
+        with open(os.path.join(os.fsencode(src), name), "w", encoding="utf-8") as fh:
+            fh.write(page(f"Odd name {i}"))
+    reconcile(src, out)
+    assert reconcile(src, out).parsed == 0
+    for raw in (out / "changes.jsonl").read_bytes().splitlines():
+        json.loads(raw.decode("utf-8", "strict"))
+    sources = set(current_ids(out).values())
+    assert "bad\ufffd.md" in sources and "two\nlines.md" in sources and "cafe\u0301.md" in sources
+    os.unlink(os.path.join(os.fsencode(src), names[0]))
+    reconcile(src, out)
+    assert "bad\ufffd.md" not in set(current_ids(out).values())
+    assert_feed_matches(out)

@@ -259,3 +259,20 @@ def _children_busy(pid: int) -> bool:
             running |= stat.startswith("R")
             stack.append(child)
     return running
+
+
+def test_a_vanished_source_folder_pauses_the_watcher_and_keeps_the_output(docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W9: a missing root is not "every file was deleted".
+    out = tmp_path / "out"
+    with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
+        before = chunk_files(out)
+        os.rename(docs, tmp_path / "away")
+        assert w.loop is not None
+        wait_for(lambda: w.loop.degraded == "root_missing")  # type: ignore[union-attr]
+        assert read_status(out).degraded == "root_missing"  # type: ignore[union-attr]
+        assert chunk_files(out) == before
+        os.rename(tmp_path / "away", docs)
+        write(docs / "after-return.md", page("Pilot roles"))
+        wait_for(lambda: w.loop.degraded == "")  # type: ignore[union-attr]
+        w.sync(10)
+    assert_matches_fresh_build(docs, out, tmp_path)
