@@ -107,10 +107,12 @@ def soup_to_etree(soup: Any) -> etree._Element | None:
         _copy_attrs(top, root)
         start_children = list(top.contents)
         target = root
-    # Stack of (lxml parent, iterator over bs4 children, depth).
-    stack: list[tuple[etree._Element, Any, int]] = [(target, iter(start_children), 1)]
+    # Frames: [lxml parent, iterator over bs4 children, depth, last lxml child or None]. The last
+    # child is tracked because len(element) walks libxml2's child list (quadratic on wide trees).
+    stack: list[list[Any]] = [[target, iter(start_children), 1, None]]
     while stack:
-        parent, it, depth = stack[-1]
+        frame = stack[-1]
+        parent, it, depth, last = frame
         node = next(it, None)
         if node is None:
             stack.pop()
@@ -118,23 +120,24 @@ def soup_to_etree(soup: Any) -> etree._Element | None:
         if isinstance(node, skip):
             continue
         if isinstance(node, NavigableString):
-            _append_text(parent, str(node))
+            _append_text(parent, last, str(node))
             continue
         if not isinstance(node, Tag):
             continue
         if depth >= MAX_DEPTH:
             # Flatten: text of the whole subtree into the parent, block boundaries as spaces.
-            _append_text(parent, " " + node.get_text(" ") + " ")
+            _append_text(parent, last, " " + node.get_text(" ") + " ")
             continue
         try:
             el = etree.SubElement(parent, node.name.lower())
         except ValueError:  # a tag name lxml refuses: keep its text
-            _append_text(parent, node.get_text(" "))
+            _append_text(parent, last, node.get_text(" "))
             continue
         _copy_attrs(node, el)
         if getattr(node, "sourceline", None):
             el.sourceline = node.sourceline
-        stack.append((el, iter(list(node.contents)), depth + 1))
+        frame[3] = el
+        stack.append([el, iter(list(node.contents)), depth + 1, None])
     return root
 
 
@@ -148,8 +151,8 @@ def _copy_attrs(tag: Any, el: etree._Element) -> None:
             continue
 
 
-def _append_text(parent: etree._Element, text: str) -> None:
-    if len(parent):
-        parent[-1].tail = (parent[-1].tail or "") + text
+def _append_text(parent: etree._Element, last: etree._Element | None, text: str) -> None:
+    if last is not None:
+        last.tail = (last.tail or "") + text
     else:
         parent.text = (parent.text or "") + text
