@@ -90,7 +90,12 @@ def test_a_dozen_random_sigkills_during_builds_always_converge(tmp_path: Path) -
         feed_file = out / "changes.jsonl"
         before = feed_file.stat().st_size if feed_file.exists() else 0
         proc = build(src, out)
-        time.sleep(rng.uniform(0.2, 0.8))  # a random moment of the build (the point of the test)
+        if step % 2:  # odd steps: first wait until the build has written part of its work
+            deadline = time.monotonic() + 30
+            while proc.poll() is None and time.monotonic() < deadline and not (
+                    feed_file.exists() and feed_file.stat().st_size > before):
+                time.sleep(0.002)
+        time.sleep(rng.uniform(0.0, 0.4))  # a random moment of the build (the point of the test)
         if proc.poll() is None:
             proc.send_signal(signal.SIGKILL)
             killed += 1
