@@ -18,6 +18,9 @@ WINDOW_CHARS = 200_000
 (spaCy refuses texts over `nlp.max_length`, 1,000,000 characters by default)."""
 
 _SPACE = re.compile(r"\s")
+_SENTENCE_END = re.compile(r"[.!?;:\u3002\uff01\uff1f\u0964\u061f]")
+LONG_RUN = 200
+_LONG_RUN = re.compile(r"(\S{%d,})" % LONG_RUN)
 
 
 @lru_cache(maxsize=4)
@@ -38,15 +41,28 @@ def split_sentences(text: str, language: str = "en") -> list[str]:
     """Cut `text` into sentences; their concatenation is exactly `text` (spaces stay attached)."""
     if not text.strip():
         return [text] if text else []
+    if not _SENTENCE_END.search(text):
+        return [text]  # no sentence punctuation at all: spaCy would return it whole, slowly
     out: list[str] = []
     for window in _windows(text):
-        doc = _pipeline(language)(window)
-        starts = [s.start_char for s in doc.sents]
-        if not starts or starts[0] != 0:
-            starts.insert(0, 0)
-        for i, start in enumerate(starts):
-            end = starts[i + 1] if i + 1 < len(starts) else len(window)
-            out.append(window[start:end])
+        out.extend(_sentences(window, language))
+    return out
+
+
+def _sentences(window: str, language: str) -> list[str]:
+    """Sentences of one window. A run of LONG_RUN or more characters without a space is kept as a
+    sentence of its own and never reaches spaCy, whose tokenizer is quadratic on long punctuation
+    runs (8,000 '=' took 19 s)."""
+    out: list[str] = []
+    for k, run in enumerate(_LONG_RUN.split(window)):
+        if k % 2:
+            out.append(run)
+        elif run:
+            doc = _pipeline(language)(run)
+            starts = [s.start_char for s in doc.sents]
+            if not starts or starts[0] != 0:
+                starts.insert(0, 0)
+            out.extend(run[a:b] for a, b in zip(starts, starts[1:] + [len(run)]))
     return out
 
 

@@ -55,7 +55,7 @@ _HIDDEN = re.compile(r"<(script|style|template)\b.*?(</\1\s*>|$)", re.DOTALL | r
 _TAG = re.compile(r"<[^>]*>")
 _BR = re.compile(r"<br\s*/?>", re.IGNORECASE)
 _SLUG_DROP = re.compile(r"[^\w\- ]", re.UNICODE)
-_MARKERS = re.compile(r"^(?:\s*(?:>|[-*+]|\d{1,9}[.)])(?=\s|$))+\s*")
+_MARKERS = re.compile(r"^(?:\s*(?:>+|(?:[-*+]|\d{1,9}[.)])(?=\s|$)))+\s*")
 
 
 def _parser() -> MarkdownIt:
