@@ -86,6 +86,8 @@ class Segmenter:
         drafts: list[Draft] = []
         base = [document.title] if document.title else []
         self._section(document.root, base, None, drafts, document.title)
+        if not getattr(self.counter, "additive", False):
+            drafts = [d for draft in drafts for d in self._repair(draft)]
         if self.settings.overlap_tokens:
             self._add_overlap(drafts)
         return self._finish(document, drafts)
@@ -257,6 +259,17 @@ class Segmenter:
     def _next_key(self) -> int:
         self._key += 1
         return self._key
+
+    def _repair(self, draft: Draft) -> list[Draft]:
+        """Counters that are not additive (a byte-level BPE counts the blank lines between blocks)
+        can put a packed chunk over budget: such a chunk is halved between pieces until it fits."""
+        text = "\n\n".join(p.text for p in draft.pieces if p.text)
+        if len(draft.pieces) < 2 or self.counter.count(text) <= self.budget:
+            return [draft]
+        half = len(draft.pieces) // 2
+        first = Draft(draft.pieces[:half], draft.breadcrumb, draft.anchor, draft.section_key)
+        second = Draft(draft.pieces[half:], draft.breadcrumb, draft.anchor, draft.section_key)
+        return self._repair(first) + self._repair(second)
 
     # ----- overlap and records -------------------------------------------------------------
 
