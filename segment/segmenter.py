@@ -313,10 +313,9 @@ class Segmenter:
             occurrence = seen.get(key, 0)
             seen[key] = occurrence + 1
             span = merge_spans([p.span for p in draft.pieces])
-            kinds: list[str] = []
-            for p in draft.pieces:
-                if not kinds or kinds[-1] != p.kind.value:
-                    kinds.append(p.kind.value)
+            # Distinct block kinds in order of first appearance; a heading counts only alone.
+            kinds = list(dict.fromkeys(p.kind.value for p in draft.pieces if p.kind != BlockKind.HEADING))
+            kinds = kinds or [BlockKind.HEADING.value]
             chunks.append(
                 Chunk(
                     id=chunk_id(document.source, draft.breadcrumb, text, occurrence),
