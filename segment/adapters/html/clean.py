@@ -14,7 +14,9 @@ The rule, in order:
    wrapper child (`div`, `section`, `span`, a layout `td`...) holds at least 90% of the remaining
    non-link text and every heading (so a page without landmarks keeps all its headed content,
    and sidebars of links fall away).
-3. Inline markers for the text pass: `<br>` becomes a line-break marker (a newline inside
+3. Permalink marks outside headings (a `¶` after a table caption or an API entry's term) are
+   dropped; inside headings the heading pass strips them and reads the anchor from them.
+4. Inline markers for the text pass: `<br>` becomes a line-break marker (a newline inside
    `pre`), `<img alt>` its alt text.
 """
 
@@ -25,6 +27,7 @@ from dataclasses import dataclass, field
 from lxml import etree
 
 from segment.adapters.html.tags import (
+    BREAK,
     DROP_CLASSES,
     DROP_ROLES,
     DROP_TAGS,
@@ -35,10 +38,8 @@ from segment.adapters.html.tags import (
     is_hidden,
     tag_of,
 )
+from segment.adapters.html.text import is_permalink
 
-BREAK = "\ufdd0"
-"""Marks a `<br>` in text outside `pre`: a Unicode noncharacter, never meant to appear in pages
-(lxml refuses NUL in text). A stray U+FDD0 in a page would read as a line break."""
 
 LANDMARK_SHARE = 0.3
 """A `main`/`article` landmark is used only when it holds this share of the page's non-link text
@@ -86,6 +87,10 @@ def clean(root: etree._Element) -> Cleaned:
             walker.skip_subtree()
         elif tag == "br":
             el.tail = BREAK + (el.tail or "")
+        elif tag == "a" and keys and _stray_permalink(el):
+            drop.append(el)
+            counts["permalink"] = counts.get("permalink", 0) + 1
+            walker.skip_subtree()
         elif tag == "img":
             alt = el.get("alt")
             if alt:
@@ -120,6 +125,15 @@ def _clean_pre(pre: etree._Element, drop: list[etree._Element], counts: dict[str
         elif el.tag in ("script", "style", "template") or is_hidden(el):
             drop.append(el)
             counts["pre-hidden"] = counts.get("pre-hidden", 0) + 1
+
+
+def _stray_permalink(a: etree._Element) -> bool:
+    """A permalink mark outside a heading (captions, API terms): dropped here. Marks inside
+    headings are left for the heading pass, which reads the anchor from them."""
+    href = a.get("href")
+    if href is None or not href.startswith("#") or not is_permalink(a):
+        return False
+    return not any(anc.tag in HEADING_TAGS for anc in a.iterancestors())
 
 
 def _in_main(el: etree._Element) -> bool:

@@ -11,6 +11,10 @@ import re
 
 from lxml import etree
 
+BREAK = "\ufdd0"
+"""Marks a `<br>` in text outside `pre`: a Unicode noncharacter, never meant to appear in pages
+(lxml refuses NUL in text). A stray U+FDD0 in a page would read as a line break."""
+
 HEADING_TAGS: tuple[str, ...] = ("h1", "h2", "h3", "h4", "h5", "h6")
 HEADING_LEVEL: dict[str, int] = {t: i + 1 for i, t in enumerate(HEADING_TAGS)}
 

@@ -5,8 +5,7 @@ from __future__ import annotations
 import re
 from lxml import etree
 
-from segment.adapters.html.clean import BREAK
-from segment.adapters.html.tags import BLOCK_TAGS
+from segment.adapters.html.tags import BLOCK_TAGS, BREAK, PERMALINK_CLASSES, PERMALINK_TEXTS, class_tokens
 
 def collapse(raw: str, breaks: bool = True) -> str:
     """Collapse whitespace runs to one space; `<br>` markers become `\n` (or a space).
@@ -79,3 +78,13 @@ def line_range(first_line: int | None, raw: str) -> tuple[int, int] | None:
     lead = raw.index(body[0])
     start = first_line + raw.count("\n", 0, lead)
     return (start, start + body.count("\n"))
+
+
+def is_permalink(a: etree._Element) -> bool:
+    """A same-page link that is only a mark: a permalink class, or text like ¶, #, § or nothing."""
+    href = a.get("href")
+    if class_tokens(a) & PERMALINK_CLASSES and (href is None or href.startswith("#")):
+        return True
+    if href is None or not href.startswith("#"):
+        return False
+    return collapse("".join(a.itertext()), breaks=False) in PERMALINK_TEXTS

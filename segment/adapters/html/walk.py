@@ -23,15 +23,13 @@ from segment.adapters.html.tags import (
     HEADING_TAGS,
     LIST_TAGS,
     PARAGRAPH_TAGS,
-    PERMALINK_CLASSES,
-    PERMALINK_TEXTS,
     PRE_TAGS,
     class_tokens,
     heading_level,
     is_admonition,
     tag_of,
 )
-from segment.adapters.html.text import collapse, flat_text, has_block, line_range, spaced_text
+from segment.adapters.html.text import collapse, flat_text, has_block, is_permalink, line_range, spaced_text
 from segment.tree import (
     Block,
     Code,
@@ -176,6 +174,13 @@ class Walker:
                 f.line = _later(f.line, code.span.lines[1] if code.span.lines else None)
             return False
         if tag == "table":
+            gutter_pre = _gutter_code(el)
+            if gutter_pre is not None:
+                code = _code(gutter_pre)
+                if code.lines:
+                    self._add(f.sink, code)
+                    f.line = _later(f.line, code.span.lines[1] if code.span.lines else None)
+                return False
             kind = table_kind(el)
             if kind == "navigation":
                 return False
@@ -331,7 +336,7 @@ class Walker:
         self._flush(f)
         items: list[Definition] = f.node.items
         if tag == "dt":
-            raw = spaced_text(el) if has_block(el) else "".join(el.itertext())
+            raw = heading_text(el)[0]  # an API entry's term may carry a permalink mark too
             term = collapse(raw, breaks=False)
             span = Span(lines=line_range(el.sourceline, raw))
             if not items or items[-1].blocks:
@@ -409,7 +414,7 @@ def heading_text(el: etree._Element) -> tuple[str, str | None]:
             pieces.append(node.tail or "")
             continue
         if tag_of(node) == "a":
-            if _is_permalink(node):
+            if is_permalink(node):
                 href = node.get("href") or ""
                 anchor = anchor or (href[1:] if href.startswith("#") and len(href) > 1 else None) \
                     or node.get("id") or node.get("name")
@@ -421,15 +426,6 @@ def heading_text(el: etree._Element) -> tuple[str, str | None]:
             pieces.append(" ")
         pieces.append(node.text or "")
     return "".join(pieces), anchor
-
-
-def _is_permalink(a: etree._Element) -> bool:
-    href = a.get("href")
-    if class_tokens(a) & PERMALINK_CLASSES and (href is None or href.startswith("#")):
-        return True
-    if href is None or not href.startswith("#"):
-        return False
-    return collapse("".join(a.itertext()), breaks=False) in PERMALINK_TEXTS
 
 
 def _code(el: etree._Element) -> Code:
@@ -445,15 +441,34 @@ def _code(el: etree._Element) -> Code:
     return Code(lines, _language(el), span)
 
 
+def _gutter_code(table: etree._Element) -> etree._Element | None:
+    """The code `pre` of a highlighter's line-number table (Pygments `highlighttable`, Hugo's
+    chroma `lntable`, Rouge): one row, two cells each holding a `pre`, the first only numbers."""
+    if table.find(".//pre") is None:
+        return None
+    rows = list(table.iter("tr"))
+    if len(rows) != 1:
+        return None
+    cells = [c for c in rows[0] if tag_of(c) in ("td", "th")]
+    if len(cells) != 2:
+        return None
+    pres = [next(c.iter("pre"), None) for c in cells]
+    if pres[0] is None or pres[1] is None:
+        return None
+    if not all(token.isdigit() for token in "".join(pres[0].itertext()).split()):
+        return None
+    return pres[1]
+
+
 def _language(el: etree._Element) -> str | None:
+    """From `language-*`/`lang-*`/`highlight-*` classes or `data-lang` on the `pre`, its `code`,
+    or an enclosing wrapper (Sphinx puts `highlight-python` a few levels up)."""
     candidates = [el]
     candidates.extend(c for c in el if tag_of(c) == "code")
-    parent = el.getparent()
-    if parent is not None:
-        candidates.append(parent)
-        grand = parent.getparent()
-        if grand is not None:
-            candidates.append(grand)
+    for depth, anc in enumerate(el.iterancestors()):
+        if depth >= 7:
+            break
+        candidates.append(anc)
     for node in candidates:
         lang = node.get("data-lang") or node.get("data-language")
         if lang:
