@@ -9,7 +9,7 @@ For one source file and one budget it checks, independently of how the segmenter
 1. table rows and code lines: every pipe-table row line in chunk text has its table header's cell
    count, every table part starts with the header row and its separator, and every row of the
    tree's tables appears whole in some chunk; likewise every code line of the tree (unless the
-   line alone is over budget) is a whole line of some chunk;
+   line inside its fences is over budget) is a whole line of some chunk;
 2. heading path: every chunk holding (part of) a paragraph carries the breadcrumb of the deepest
    section whose lines cover the whole chunk: the paragraph's own section, or, for chunks that pack
    sibling sections together, their common parent (DESIGN.md section 6, rule 1). Where a section
@@ -429,8 +429,11 @@ def _check_code(doc: Document, chunks: list[Chunk], max_tokens: int, counter: To
         return
     have = {line.strip() for c in chunks for line in c.text.split("\n")}
     for code in codes:
+        fence = "```" + (code.language or "")
         for i, line in enumerate(code.lines):
-            if line.strip() and line.strip() not in have and counter.count(line) <= max_tokens:
+            # A line that cannot fit the budget inside its fences must be cut between words.
+            alone = counter.count(f"{fence}\n{line}\n```")
+            if line.strip() and line.strip() not in have and alone <= max_tokens:
                 first = code.span.lines[0] if code.span.lines else 0
                 rep.code.append(f"code line {i + 1} of block at line {first} not whole in any chunk: {line.strip()[:70]!r}")
 

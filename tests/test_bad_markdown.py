@@ -130,10 +130,7 @@ DEEP: dict[str, tuple[bytes, str]] = {
     ),
 }
 # Cases that fail on the current code, with the finding (strict: a fix shows up as XPASS).
-DEEP_KNOWN: dict[str, str] = {
-    "quote-lines-10000.md": "hangs: lines past the nesting limit keep their '>>>>' markers as text, "
-    "and spaCy's tokenizer is quadratic on long punctuation runs (8,000 '=' take 19 s)",
-}
+DEEP_KNOWN: dict[str, str] = {}
 
 
 @pytest.mark.timeout(30)

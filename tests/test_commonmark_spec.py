@@ -45,9 +45,7 @@ SKIPPED_COMMONMARK: dict[int, str] = {
 SKIPPED_GFM_TABLES: dict[int, str] = {}
 
 # Examples that show a bug in our code, reported with a minimal repro; strict, so a fix shows up.
-KNOWN_BUGS: dict[int, str] = {
-    267: "ordered list start number 0 is read as 1 (`int(attrGet('start') or 1)` treats 0 as unset)",
-}
+KNOWN_BUGS: dict[int, str] = {}
 
 STRUCTURE_TAGS = ("h1", "h2", "h3", "h4", "h5", "h6", "ul", "ol", "li", "table")
 

@@ -34,25 +34,7 @@ BUDGETS = (256, 512)
 # Checks that fail on the current code, each with the finding that explains it (written up with a
 # minimal repro in the notes for the Markdown adapter and segmenter). Remove an entry when fixed:
 # the marks are strict, so a check that starts passing fails until its entry goes.
-_CODE_IN_ITEMS = (
-    "an over-budget list item is cut as sentences of its rendered text: code lines inside it are "
-    "broken at '.' (context.Context -> 'context.' / 'Context')"
-)
-_LINE_RANGES = (
-    "parts of a split code block (and of sentence-split paragraphs and items) carry the whole "
-    "block's line range, so consecutive chunks overlap"
-)
-_EMPTY_SECTIONS = (
-    "a heading whose section has no content of its own (e.g. '## Setup' directly followed by "
-    "'## Traces') reaches no chunk text or breadcrumb"
-)
-KNOWN_FAILURES: dict[tuple[str, int], str] = {
-    ("code", 256): _CODE_IN_ITEMS,
-    ("lines", 256): _LINE_RANGES,
-    ("lines", 512): _LINE_RANGES,
-    ("words", 256): _EMPTY_SECTIONS,
-    ("words", 512): _EMPTY_SECTIONS,
-}
+KNOWN_FAILURES: dict[tuple[str, int], str] = {}
 
 
 # ----- the checker notices damage (demo docs, always run) --------------------------------------

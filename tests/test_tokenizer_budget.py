@@ -66,10 +66,7 @@ TRAINERS: dict[str, Callable[[list[str]], Tokenizer]] = {"wordpiece": _wordpiece
 
 
 # Tokenizers under which the current code is known to break the budget, with the finding.
-KNOWN_FAILURES: dict[str, str] = {
-    "byte-bpe": "pieces are counted apart and joined with blank lines; a byte-level BPE counts the "
-    "'\\n\\n' joiners too, so a packed chunk can go a few tokens over (131, 134 > 128)",
-}
+KNOWN_FAILURES: dict[str, str] = {}
 
 
 @pytest.fixture(scope="module", params=sorted(TRAINERS))
