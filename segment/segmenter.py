@@ -303,10 +303,7 @@ class Segmenter:
                 continue
             overlap = draft.extra.pop("overlap", None)
             text = f"{overlap}\n\n{body}" if isinstance(overlap, str) else body
-            if overlap is None and getattr(self.counter, "additive", False):
-                tokens = sum(p.tokens for p in draft.pieces if p.text)
-            else:
-                tokens = self.counter.count(text)
+            tokens = self.counter.count(text)
             if overlap is not None and tokens > self.settings.max_tokens:
                 text, tokens = body, self.counter.count(body)
             key = (*draft.breadcrumb, "\x1f", normalise_text(text))

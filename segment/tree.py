@@ -43,10 +43,14 @@ def _union(a: tuple[int, int] | None, b: tuple[int, int] | None) -> tuple[int, i
 
 def merge_spans(spans: list[Span]) -> Span:
     """Merge many spans; an empty list gives an empty span."""
-    out = Span()
-    for span in spans:
-        out = out.merge(span)
-    return out
+    lines = [s.lines for s in spans if s.lines is not None]
+    pages = [s.pages for s in spans if s.pages is not None]
+    bbox = next((s.bbox for s in spans if s.bbox is not None), None)
+    return Span(
+        lines=(min(a for a, _ in lines), max(b for _, b in lines)) if lines else None,
+        pages=(min(a for a, _ in pages), max(b for _, b in pages)) if pages else None,
+        bbox=bbox,
+    )
 
 
 class BlockKind(StrEnum):

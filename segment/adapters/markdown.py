@@ -318,20 +318,19 @@ def inline_text_lines(inline: Token) -> tuple[str, list[int]]:
     size = 0
     for child in inline.children or []:
         t = child.type
-        before = len(out)
-        if t == "text":
-            out.append(child.content)
+        if t == "text" or t == "image":
+            piece = child.content
         elif t == "code_inline":
-            out.append(f"`{child.content}`")
-        elif t in ("softbreak", "hardbreak"):
-            out.append(" " if t == "softbreak" else "\n")
+            piece = f"`{child.content}`"
+        elif t == "softbreak" or t == "hardbreak":
+            piece = " " if t == "softbreak" else "\n"
             starts.append(size + 1)
-        elif t == "image":
-            out.append(child.content)
-        elif t == "html_inline":
-            if _BR.fullmatch(child.content.strip()):
-                out.append("\n")
-        size += sum(len(x) for x in out[before:])
+        elif t == "html_inline" and _BR.fullmatch(child.content.strip()):
+            piece = "\n"
+        else:
+            continue
+        out.append(piece)
+        size += len(piece)
     return "".join(out), starts
 
 
