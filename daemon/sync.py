@@ -70,11 +70,14 @@ class SyncReport:
     ms: float = 0.0
     parse_pids: set[int] = field(default_factory=set)
     """Processes that parsed files (never the daemon's own pid)."""
+    interrupted: int = 0
+    """Files left for the next pass because a stop was requested."""
 
     def line(self, what: str) -> str:
         """The one log line for this pass."""
         failed = f", {len(self.failed)} failed" if self.failed else ""
         skipped = f", {len(self.skipped)} still changing" if self.skipped else ""
+        skipped += f", {self.interrupted} left for the next run (stopped)" if self.interrupted else ""
         return (
             f"{what}: {self.scanned} files, re-segmented {self.parsed} files, deleted {self.deleted}"
             f"{failed}{skipped}; chunks +{self.added} -{self.removed}; {self.ms:.0f} ms"
@@ -120,6 +123,8 @@ class Syncer:
             self.lock.release()
             raise
         self._group: _Group = _Group()
+        self.stop_requested: Callable[[], bool] = lambda: False
+        """Checked between files: once true, a pass commits what it has and returns early."""
 
     def _recover_feed(self) -> None:
         """Undo feed entries a crash left past the last store commit (see `compensation`)."""
@@ -239,7 +244,7 @@ class Syncer:
         while to_parse:
             tasks = [Task(rel, str(self.scope.abs(rel)), display_name(rel)) for rel in to_parse]
             again: dict[str, StatSig] = {}
-            for outcome in self.pool.map(tasks):
+            for outcome in self.pool.map(tasks, stop=self.stop_requested):
                 rel = outcome.path
                 if outcome.pid:
                     report.parse_pids.add(outcome.pid)
@@ -264,7 +269,9 @@ class Syncer:
                     progress(done, total)
                 if self._group.due():
                     self._flush(report)
-            to_parse = again
+            to_parse = {} if self.stop_requested() else again
+        if done < total:
+            report.interrupted = total - done
 
     # -- one file's result -----------------------------------------------------------------
 

@@ -336,6 +336,7 @@ class Watcher:
 
     def __enter__(self) -> Watcher:
         self.syncer = Syncer(self.src, self.out, self.settings, jobs=self.jobs)
+        self.syncer.stop_requested = self._stop.is_set
         try:
             self.loop = WatchLoop(self.syncer, quiet_s=self.quiet_s, rescan_s=self.rescan_s)
             self.loop.start()

@@ -20,7 +20,7 @@ import os
 import signal
 import time
 from collections import deque
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from multiprocessing.connection import Connection
 from typing import Any
@@ -242,14 +242,21 @@ class WorkerPool:
         worker.conn.close()
         self._workers.remove(worker)
 
-    def map(self, tasks: Iterable[Task]) -> Iterator[Outcome]:
-        """Run tasks, yielding one outcome per task as they finish (in no fixed order)."""
+    def map(self, tasks: Iterable[Task], stop: Callable[[], bool] | None = None) -> Iterator[Outcome]:
+        """Run tasks, yielding one outcome per task as they finish (in no fixed order).
+
+        Once `stop()` is true no new task starts; tasks in progress still finish and the
+        tasks never started are simply not reported.
+        """
         pending: deque[Task] = deque(tasks)
         if not pending:
             return
         while len(self._workers) < min(self.jobs, len(pending)):
             self._spawn()
         while pending or any(w.task for w in self._workers):
+            if stop is not None and pending and stop():
+                pending.clear()
+                continue
             for worker in self._workers:
                 if worker.ready and worker.task is None and pending:
                     worker.task = pending.popleft()

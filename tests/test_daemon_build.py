@@ -237,3 +237,15 @@ def test_odd_file_names_round_trip_and_every_feed_line_is_strict_utf8(tmp_path: 
     reconcile(src, out)
     assert "bad\ufffd.md" not in set(current_ids(out).values())
     assert_feed_matches(out)
+
+
+def test_a_stop_request_commits_what_is_done_and_the_next_pass_does_the_rest(src: Path, tmp_path: Path) -> None:
+    out = tmp_path / "out"
+    with Syncer(src, out, Settings()) as syncer:
+        seen: list[int] = []
+        syncer.stop_requested = lambda: len(seen) > 0
+        report = syncer.reconcile(progress=lambda done, total: seen.append(done))
+    assert report.interrupted > 0 and report.parsed == 6 - report.interrupted
+    assert "left for the next run" in report.line("build")
+    assert_feed_matches(out)
+    assert reconcile(src, out).parsed == report.interrupted
