@@ -10,6 +10,10 @@ from typing import Any
 ID_VERSION = "1"
 """Bumped when the id recipe changes, so every id changes with it."""
 
+OUTPUT_VERSION = "2026.12.1"
+"""Bumped when parsing or segmentation changes what chunks a file gets: part of the settings
+fingerprint, so an upgraded daemon re-segments files built by an older version."""
+
 
 @dataclass(slots=True)
 class Chunk:

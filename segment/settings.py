@@ -9,6 +9,7 @@ from dataclasses import asdict, dataclass, fields, replace
 from pathlib import Path
 from typing import Any
 
+from segment.chunk import OUTPUT_VERSION
 from segment.errors import SettingsError
 
 CONFIG_NAME = "segment.toml"
@@ -70,6 +71,7 @@ class Settings:
         """Hash of the fields that change the chunks of a file (not include/exclude or limits)."""
         keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language")
         data: dict[str, Any] = {k: getattr(self, k) for k in keys}
+        data["output_version"] = OUTPUT_VERSION
         if self.tokenizer:
             data["tokenizer_sha"] = _file_sha(self.tokenizer)
         blob = json.dumps(data, sort_keys=True).encode()
