@@ -187,12 +187,8 @@ def _choose_main(
     role_mains: list[etree._Element],
     articles: list[etree._Element],
 ) -> etree._Element:
-    total: list[int] = []  # the body's text weight, computed once and only when needed
-
     def holds_content(el: etree._Element) -> bool:
-        if not total:
-            total.append(_text_weight(body))
-        return _text_weight(el) >= LANDMARK_SHARE * total[0]
+        return _holds_share(el, body, LANDMARK_SHARE)
 
     for candidates in (mains, role_mains):
         for el in candidates:
@@ -206,6 +202,34 @@ def _choose_main(
         if parent is not None and all(a.getparent() is parent for a in live) and holds_content(parent):
             return parent
     return _densest(body)
+
+
+def _holds_share(el: etree._Element, body: etree._Element, share: float) -> bool:
+    """True when `el` holds at least `share` of the text under `body`.
+
+    The text outside `el` (siblings along its ancestor path, usually small once boilerplate is
+    gone) is weighed first; `el`'s own text is then counted only until it is enough, so a page
+    that is mostly one big `main` costs little.
+    """
+    outside = 0
+    node = el
+    while node is not body:
+        parent = node.getparent()
+        if parent is None:
+            break
+        outside += len((parent.text or "").strip())
+        for sib in parent:
+            if sib is not node and isinstance(sib.tag, str):
+                outside += _text_weight(sib)
+            outside += len((sib.tail or "").strip())
+        node = parent
+    need = share / (1 - share) * outside
+    have = 0
+    for text in el.itertext():
+        have += len(text.strip())
+        if have >= need and have > 0:
+            return True
+    return have >= need and have > 0
 
 
 def _attached(el: etree._Element, body: etree._Element) -> bool:
