@@ -1,0 +1,239 @@
+"""A hostile corpus, made by code at test time (nothing large is committed).
+
+Each `Hostile` case is one file: its name (bytes, so undecodable names are possible), its
+content, and what a build must make of it: chunks holding a given text (`expect="ok"`), or one
+of the failure statuses in `statuses`. The cases follow ../shared/RELIABILITY.md P3 and P6-P10
+and W15; the PDF faults are made with pymupdf itself, as P3's recipe says.
+
+Things that are not file contents (symlinks, a file that vanishes, an unreadable file) are made
+by the helpers at the bottom, since they need a real folder.
+"""
+
+from __future__ import annotations
+
+import os
+import random
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from functools import cache
+from pathlib import Path
+
+import pymupdf
+
+GOOD_TEXT = "The hangar crew logs every battery swap"
+"""A sentence each good file carries, so its chunks can be found."""
+
+
+@dataclass(frozen=True, slots=True)
+class Hostile:
+    """One hostile file and what a build must make of it."""
+
+    name: bytes
+    """File name (bytes: names need not be valid UTF-8)."""
+    make: Callable[[], bytes]
+    expect: str
+    """`ok` (chunks, holding `needle`) or `failed` (a status from `statuses`, no chunks)."""
+    statuses: frozenset[str] = frozenset()
+    """Failure statuses accepted for `failed`, or for `ok` cases allowed to fail cleanly."""
+    needle: str = ""
+    """Text that must reach the chunks of an `ok` case ("" when it may have no chunks)."""
+    why: str = ""
+    tags: frozenset[str] = field(default_factory=frozenset)
+
+    @property
+    def source(self) -> str:
+        """The name as chunk records and the feed write it (undecodable bytes become U+FFFD)."""
+        return self.name.decode("utf-8", "replace")
+
+
+# -- PDFs ---------------------------------------------------------------------------------------
+
+
+PDF_TOPICS = ("Battery", "Propeller", "Gimbal", "Firmware", "Landing", "Radio", "Camera", "Compass",
+              "Charger", "Hangar", "Transport", "Storage")
+
+
+@cache
+def good_pdf(pages: int = 12) -> bytes:
+    """A plain text PDF (one heading line and a few sentences per page), no object streams."""
+    doc = pymupdf.open()
+    for n in range(1, pages + 1):
+        page = doc.new_page()
+        page.insert_text((72, 72 + 9 * n), f"{PDF_TOPICS[n - 1]} checklist", fontsize=16)
+        y = 110
+        for k in range(12):
+            page.insert_text((72, y), f"Step {n}.{k}: {GOOD_TEXT} on page {n}.", fontsize=10)
+            y += 16
+    doc.set_metadata({"title": "Hangar procedures"})
+    data = doc.tobytes(garbage=0, deflate=True)
+    doc.close()
+    return data
+
+
+def cut_pdf(share: float) -> bytes:
+    """The good PDF cut after `share` of its bytes (a copy still in progress, W6)."""
+    data = good_pdf()
+    return data[: int(len(data) * share)]
+
+
+def broken_xref_pdf() -> bytes:
+    """The cross-reference table and the startxref offset overwritten (MuPDF repairs it)."""
+    out = bytearray(good_pdf())
+    pos = out.rfind(b"startxref")
+    out[pos + 10 : pos + 18] = b"99999999"
+    xref = out.find(b"\nxref")
+    if 0 <= xref < pos:
+        out[xref + 1 : xref + 41] = b"X" * 40
+    return bytes(out)
+
+
+def encrypted_pdf(user_pw: str) -> bytes:
+    """AES-256 (PDF 2.0 standard security handler) with the given user password."""
+    doc = pymupdf.open(stream=good_pdf(), filetype="pdf")
+    data = doc.tobytes(encryption=pymupdf.PDF_ENCRYPT_AES_256, owner_pw="owner-secret", user_pw=user_pw)
+    doc.close()
+    return data
+
+
+def random_bytes(n: int, seed: int = 6) -> bytes:
+    return random.Random(seed).randbytes(n)
+
+
+# -- the corpus ---------------------------------------------------------------------------------
+
+PDF_FAIL = frozenset({"corrupt"})
+DEEP = "deepest words here"
+
+CASES: tuple[Hostile, ...] = (
+    # PDFs (RELIABILITY P3, W6)
+    *(
+        Hostile(f"cut-{int(s * 100)}.pdf".encode(), lambda s=s: cut_pdf(s), "ok", PDF_FAIL, "",
+                f"PDF cut at {s:.0%}: fails to open, or opens repaired with partial text", frozenset({"pdf", "cut"}))
+        for s in (0.1, 0.3, 0.6, 0.9, 0.97)
+    ),
+    Hostile(b"broken-xref.pdf", broken_xref_pdf, "ok", PDF_FAIL, "Storage checklist",
+            "cross-reference table overwritten: repaired", frozenset({"pdf"})),
+    Hostile(b"aes256-user.pdf", lambda: encrypted_pdf("hangar-7"), "failed", frozenset({"encrypted"}),
+            why="AES-256 with a user password", tags=frozenset({"pdf"})),
+    Hostile(b"owner-only.pdf", lambda: encrypted_pdf(""), "ok", frozenset(), "Gimbal checklist",
+            "AES-256 with an owner password only: must read normally", frozenset({"pdf"})),
+    Hostile(b"random-bytes.pdf", lambda: random_bytes(30_000), "failed", PDF_FAIL, why="random bytes"),
+    Hostile(b"html-named.pdf", lambda: b"<html><body><h1>Gate codes</h1><p>Not a PDF.</p></body></html>",
+            "failed", PDF_FAIL, why="HTML bytes named .pdf (MuPDF would sniff and open it)"),
+    Hostile(b"text-named.pdf", lambda: b"# Release notes\n\nPlain text, not a PDF.\n", "failed", PDF_FAIL,
+            why="text named .pdf"),
+    # 0-byte files of each format
+    Hostile(b"empty.pdf", lambda: b"", "failed", frozenset({"empty"}), why="0 bytes"),
+    Hostile(b"empty.md", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
+    Hostile(b"empty.html", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
+    # Deep nesting (P6, P7)
+    Hostile(b"deep-divs.html", lambda: b"<div>" * 100_000 + DEEP.encode() + b"</div>" * 100_000, "ok",
+            needle=DEEP, why="100,000 nested divs"),
+    Hostile(b"deep-quotes.md", lambda: ("> " * 10_000 + DEEP + "\n").encode(), "ok", needle=DEEP,
+            why="10,000 nested block quotes"),
+    Hostile(b"deep-list.md", lambda: ("- " * 10_000 + DEEP + "\n").encode(), "ok", needle=DEEP,
+            why="10,000 nested list items"),
+    # markdown-it's quadratic-prone runs (P8), 100k characters each
+    *(
+        Hostile(f"run-{label}.md".encode(), lambda unit=unit: (unit * (100_000 // len(unit) + 1))[:100_000].encode(),
+                "ok", needle="", why=f"{unit!r} repeated to 100k characters", tags=frozenset({"quadratic"}))
+        for label, unit in (("bracket", "["), ("lt", "<"), ("star-under", "*_"), ("strong-a", "**a"),
+                            ("link-open", "[a](b "))
+    ),
+    # 1.2M-character paragraphs (P9)
+    Hostile(b"para-sentences.md",
+            lambda: (("The drone returns to its dock. " * 40_000)[:1_200_000] + "\n").encode(),
+            "ok", needle="The drone returns to its dock.", why="1.2M characters of short sentences",
+            tags=frozenset({"long"})),
+    Hostile(b"para-words.md", lambda: (("lorem ipsum dolor " * 70_000)[:1_200_000] + "\n").encode(),
+            "ok", needle="lorem ipsum dolor", why="1.2M characters, no punctuation", tags=frozenset({"long"})),
+    # Encodings and bytes (P10)
+    Hostile(b"cp1252.md", lambda: b"# Crew\xe2 notes\n\nThe pilot\x92s log \x96 kept daily.\n", "ok",
+            needle="pilot\u2019s log", why="CP-1252 bytes in a .md"),
+    Hostile(b"utf16.md", lambda: "\ufeff# Wartung\n\nDie Crew prüft die Akkus.\n".encode("utf-16-le"),
+            "ok", needle="Die Crew prüft die Akkus.", why="UTF-16 LE with a BOM"),
+    Hostile(b"nul-bytes.md", lambda: b"# Header\n\nText\x00with\x00NULs.\n", "failed", frozenset({"corrupt"}),
+            why="NUL bytes: binary content"),
+    Hostile(b"latin1.html",
+            lambda: b"<meta charset=windows-1252><h1>Caf\xe9</h1><p>The pilot\x92s log.</p>", "ok",
+            needle="pilot\u2019s log", why="declared windows-1252 HTML"),
+    # Odd names (W15)
+    Hostile(b"bad\xffname.md", lambda: good_md("undecodable"), "ok", needle=GOOD_TEXT, why="byte 0xff in the name"),
+    Hostile(b"two\nlines.md", lambda: good_md("newline"), "ok", needle=GOOD_TEXT, why="newline in the name"),
+    Hostile("cafe\u0301.md".encode(), lambda: good_md("nfd"), "ok", needle=GOOD_TEXT, why="NFD name"),
+    Hostile(b"n" * 252 + b".md", lambda: good_md("long name"), "ok", needle=GOOD_TEXT, why="255-byte name"),
+    Hostile(b"..md", lambda: good_md("dots"), "ok", needle=GOOD_TEXT, why="a name of dots"),
+    Hostile(b"-rf .md", lambda: good_md("dash"), "ok", needle=GOOD_TEXT, why="leading dash and space"),
+)
+
+
+def good_md(label: str) -> bytes:
+    """A small good Markdown page."""
+    return (f"# Fleet page {label}\n\n{GOOD_TEXT} for {label}. Charge packs to 60 percent.\n\n"
+            f"## Storage\n\nKeep spare packs in the fire cabinet ({label}).\n").encode()
+
+
+def good_html(label: str) -> bytes:
+    return (f"<html><body><main><h1>Fleet page {label}</h1><p>{GOOD_TEXT} for {label}.</p>"
+            f"<h2>Storage</h2><p>Keep spare packs in the fire cabinet.</p></main></body></html>").encode()
+
+
+GOOD_FILES: dict[str, Callable[[], bytes]] = {
+    "good/battery.md": lambda: good_md("battery"),
+    "good/storage.html": lambda: good_html("storage"),
+    "good/procedures.pdf": good_pdf,
+}
+
+
+def write_cases(root: Path, cases: tuple[Hostile, ...] = CASES, prefix: str = "") -> dict[bytes, Hostile]:
+    """Write the cases under `root` (in folder `prefix`); returns them by relative path bytes."""
+    folder = os.path.join(os.fsencode(root), os.fsencode(prefix)) if prefix else os.fsencode(root)
+    os.makedirs(folder, exist_ok=True)
+    written: dict[bytes, Hostile] = {}
+    for case in cases:
+        with open(os.path.join(folder, case.name), "wb") as fh:
+            fh.write(case.make())
+        rel = (os.fsencode(prefix) + b"/" + case.name) if prefix else case.name
+        written[rel] = case
+    return written
+
+
+def write_good(root: Path) -> dict[str, bytes]:
+    """The good files beside the hostile ones; returns {relative path: bytes}."""
+    out: dict[str, bytes] = {}
+    for rel, make in GOOD_FILES.items():
+        path = root / rel
+        path.parent.mkdir(parents=True, exist_ok=True)
+        data = make()
+        path.write_bytes(data)
+        out[rel] = data
+    return out
+
+
+def make_links(root: Path, outside: Path) -> dict[str, str]:
+    """A folder symlink loop and links out of the root; returns {name: what it is}."""
+    outside.mkdir(parents=True, exist_ok=True)
+    (outside / "secret.md").write_bytes(good_md("outside the root"))
+    links = {
+        "loop": (root, "folder symlink to its own root (a loop)"),
+        "up": (root.parent, "folder symlink to the parent of the root"),
+        "ext-dir": (outside, "folder symlink out of the root"),
+        "ext.md": (outside / "secret.md", "file symlink out of the root"),
+        "etc-passwd.md": (Path("/etc/passwd"), "file symlink to a system file"),
+    }
+    for name, (target, _) in links.items():
+        (root / name).symlink_to(target)
+    return {name: why for name, (_, why) in links.items()}
+
+
+def drop_capabilities_prefix() -> list[str]:
+    """A command prefix that makes root subject to file permissions (so chmod 000 bites),
+    or [] when not root; None-like empty list also when setpriv is missing (caller skips)."""
+    if os.geteuid() != 0:
+        return []
+    for folder in os.environ.get("PATH", "/usr/bin:/bin").split(":"):
+        candidate = os.path.join(folder, "setpriv")
+        if os.access(candidate, os.X_OK):
+            # Capabilities outside the bounding set are lost at exec, even for uid 0 (capabilities(7)).
+            return [candidate, "--bounding-set=-dac_override,-dac_read_search", "--"]
+    raise LookupError("setpriv not found")
