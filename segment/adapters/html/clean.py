@@ -33,10 +33,8 @@ from segment.adapters.html.tags import (
     DROP_TAGS,
     HEADING_TAGS,
     PRE_TAGS,
-    class_tokens,
     is_admonition,
     is_hidden,
-    tag_of,
 )
 from segment.adapters.html.text import is_permalink
 
