@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 import pymupdf
 
 from segment.adapters.pdf import blocks as blk
-from segment.adapters.pdf import headings, layout, running, tables
+from segment.adapters.pdf import extract, headings, layout, running, tables
 from segment.adapters.pdf.build import build_tree
 from segment.adapters.pdf.extract import Line, page_lines
 from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
@@ -29,7 +29,7 @@ TABLE_ENGINES = ("own", "pymupdf", "none")
 
 @dataclass(slots=True)
 class PdfTimings:
-    """Seconds spent per stage of one parse (filled when a dict is passed to `parse_pdf`)."""
+    """CPU seconds spent per stage of one parse (filled when passed to `parse_pdf`)."""
 
     extract: float = 0.0
     tables: float = 0.0
@@ -57,7 +57,7 @@ def parse_pdf(
     if table_engine not in TABLE_ENGINES:
         raise ValueError(f"table_engine must be one of {TABLE_ENGINES}, got {table_engine!r}")
     limit = max_pages if max_pages is not None else Settings().max_pages
-    start = time.perf_counter()
+    start = time.process_time()
     doc, warnings = open_pdf(data, source, limit)
     try:
         document = _parse_open(doc, source, warnings, use_outline, table_engine, timings)
@@ -71,7 +71,7 @@ def parse_pdf(
         if count:
             log.info("%s: %d MuPDF warnings (debug log has them)", source, count)
     if timings is not None:
-        timings.total = time.perf_counter() - start
+        timings.total = time.process_time() - start
     return document
 
 
@@ -83,18 +83,29 @@ def _parse_open(
     table_engine: str,
     timings: PdfTimings | None,
 ) -> Document:
-    t0 = time.perf_counter()
+    t0 = time.process_time()
     pages: list[list[Line]] = []
     heights: list[float] = []
     no_text: list[int] = []
+    page_rulings: list[tables.Rulings] = []
+    textpages: dict[int, tuple[pymupdf.Page, pymupdf.TextPage]] = {}
+    rule_time = 0.0
     for index in range(doc.page_count):
         page = doc[index]
         heights.append(page.rect.height)
+        vectors: list[dict[str, object]] | None = [] if table_engine != "none" else None
         try:
-            lines = page_lines(page, index + 1)
+            textpage = page.get_textpage(flags=extract.VECTOR_FLAGS if vectors is not None else extract.TEXT_FLAGS)
+            lines = page_lines(page, index + 1, textpage, vectors)  # type: ignore[arg-type]
         except RuntimeError as exc:
             warnings.append(f"page {index + 1}: cannot read text ({exc})")
-            lines = []
+            lines, textpage = [], None
+        ts = time.process_time()
+        r = tables.rulings_from_vectors(vectors or [], page.rect.width, page.rect.height)
+        page_rulings.append(r)
+        if textpage is not None and tables.is_candidate(r):
+            textpages[index] = (page, textpage)  # kept for the word boxes of the table stage
+        rule_time += time.process_time() - ts
         if not lines:
             no_text.append(index + 1)
             if page.get_images(full=False):
@@ -104,29 +115,31 @@ def _parse_open(
         if doc.is_repaired:
             raise ParseError(source, "damaged or truncated PDF: no readable text after repair", status="corrupt")
         raise ParseError(source, "no text layer on any page (OCR not performed)", status="no_text")
-    t1 = time.perf_counter()
+    t1 = time.process_time()
 
-    ts = time.perf_counter()
-    page_rulings = [tables.rulings(doc[i]) if table_engine != "none" else tables.Rulings() for i in range(doc.page_count)]
+    ts = time.process_time()
     grids = [tables.grid_boxes(r) for r in page_rulings]
-    table_time = time.perf_counter() - ts
+    table_time = time.process_time() - ts + rule_time
     removed = running.find_running(pages, heights, grids)
     table_pages = 0
     flows: list[blk.Item] = []
     for index, lines in enumerate(pages):
         body = [ln for ln in lines if "running" not in ln.flags]
+        if page_rulings[index].frames or page_rulings[index].v:
+            tables.mark_framed(body, page_rulings[index])
         if table_engine != "none" and body:
-            ts = time.perf_counter()
+            ts = time.process_time()
+            page, textpage = textpages.pop(index, (doc[index], None))
             found, candidate = tables.find_page_tables(
-                doc[index], index + 1, body, table_engine, page_rulings[index]
+                page, index + 1, body, table_engine, page_rulings[index], textpage
             )
             table_pages += int(candidate)
             body = _place_tables(body, found)
-            table_time += time.perf_counter() - ts
+            table_time += time.process_time() - ts
         for block in layout.order_page(body):
             for part in blk.split_items(block) if block.payload is None else [block]:
                 flows.append(part)  # type: ignore[arg-type]
-    t2 = time.perf_counter()
+    t2 = time.process_time()
 
     all_lines = [ln for lines in pages for ln in lines if "running" not in ln.flags]
     vocab = blk.vocabulary(all_lines)
@@ -165,11 +178,11 @@ def _parse_open(
     if unmatched:
         document.warnings.append(f"{unmatched} outline entries not found on their pages (inserted at page top)")
     build_tree(document, items)
-    t3 = time.perf_counter()
+    t3 = time.process_time()
     if timings is not None:
-        timings.extract = t1 - t0
+        timings.extract = t1 - t0 - rule_time
         timings.tables = table_time
-        timings.layout = (t2 - t1 - table_time) + (t3 - t2)
+        timings.layout = (t2 - t1 - (table_time - rule_time)) + (t3 - t2)
         timings.table_pages = table_pages
     return document
 

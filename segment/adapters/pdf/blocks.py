@@ -39,6 +39,7 @@ class Item:
     """A chapter label ("CHAPTER ONE") that introduces the next heading."""
     notes: str = ""
     """Processing marks (e.g. "merged" code)."""
+    cache: tuple[int, tuple[float, float, float]] | None = None
 
     @property
     def first(self) -> TextBlock:
@@ -58,22 +59,34 @@ class Item:
     @property
     def size(self) -> float:
         """Dominant font size over the item's characters."""
-        weights: dict[float, int] = {}
-        for ln in self.lines:
-            weights[ln.size] = weights.get(ln.size, 0) + len(ln.text)
-        return max(weights, key=lambda k: (weights[k], k)) if weights else 0.0
+        return self._style()[0]
 
     @property
     def bold(self) -> float:
         """Share of characters in bold."""
-        total = sum(len(ln.text.strip()) for ln in self.lines) or 1
-        return sum(ln.bold * len(ln.text.strip()) for ln in self.lines) / total
+        return self._style()[1]
 
     @property
     def mono(self) -> float:
         """Share of characters in a monospaced font."""
-        total = sum(len(ln.text.strip()) for ln in self.lines) or 1
-        return sum(ln.mono * len(ln.text.strip()) for ln in self.lines) / total
+        return self._style()[2]
+
+    def _style(self) -> tuple[float, float, float]:
+        # Cached per number of blocks (merges append blocks and so refresh it).
+        if self.cache is not None and self.cache[0] == len(self.blocks):
+            return self.cache[1]
+        weights: dict[float, int] = {}
+        total = bold = mono = 0.0
+        for ln in self.lines:
+            n = len(ln.text.strip())
+            weights[ln.size] = weights.get(ln.size, 0) + n
+            total += n
+            bold += ln.bold * n
+            mono += ln.mono * n
+        size = max(weights, key=lambda k: (weights[k], k)) if weights else 0.0
+        style = (size, bold / (total or 1), mono / (total or 1))
+        self.cache = (len(self.blocks), style)
+        return style
 
 
 def vocabulary(lines: list[Line]) -> set[str]:

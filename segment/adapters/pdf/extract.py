@@ -20,6 +20,8 @@ TEXT_FLAGS: int = (
     | pymupdf.TEXT_CID_FOR_UNKNOWN_UNICODE
 )
 """get_text flags: no images, ligatures expanded by MuPDF, text outside the page dropped."""
+VECTOR_FLAGS: int = TEXT_FLAGS | pymupdf.TEXT_COLLECT_VECTORS
+"""The same, plus the page's vector paths as blocks of type 3 (table rulings in the same pass)."""
 
 # pymupdf span flag bits (documented in the TextPage "dict" format).
 _SUPERSCRIPT = 1
@@ -93,12 +95,13 @@ class Line:
 
     def finish(self) -> None:
         """Compute text and style summaries from the pieces."""
-        self.text = "".join(p.text for p in self.pieces)
+        pieces = self.pieces
+        self.text = "".join([p.text for p in pieces])
         sizes: dict[float, int] = {}
         total = bold = mono = 0
-        for p in self.pieces:
-            n = sum(1 for ch in p.text if not ch.isspace())
-            if not n:
+        for p in pieces:
+            n = len(p.text) - p.text.count(" ")
+            if n <= 0:
                 continue
             total += n
             if not p.superscript:
@@ -108,9 +111,12 @@ class Line:
                 bold += n
             if p.mono:
                 mono += n
-        self.size = max(sizes, key=lambda k: (sizes[k], k)) if sizes else (
-            self.pieces[0].size if self.pieces else 0.0
-        )
+        if len(sizes) == 1:
+            self.size = next(iter(sizes))
+        elif sizes:
+            self.size = max(sizes, key=lambda k: (sizes[k], k))
+        else:
+            self.size = pieces[0].size if pieces else 0.0
         self.bold = bold / total if total else 0.0
         self.mono = mono / total if total else 0.0
 
@@ -125,25 +131,35 @@ class Line:
         return (self.x0, self.y0, self.x1, self.y1)
 
 
-def _piece(span: dict[str, Any]) -> Piece:
-    flags = int(span.get("flags", 0))
-    font = str(span.get("font", ""))
-    x0, _, x1, _ = span["bbox"]
-    return Piece(
-        text=normalise_text(span.get("text", "")),
-        x0=float(x0),
-        x1=float(x1),
-        size=float(span.get("size", 0.0)),
-        bold=bool(flags & _BOLD) or bool(_BOLD_NAME.search(font)),
-        italic=bool(flags & _ITALIC) or bool(_ITALIC_NAME.search(font)),
-        mono=bool(flags & _MONO) or bool(_MONO_NAME.search(font)),
-        superscript=bool(flags & _SUPERSCRIPT),
+@lru_cache(maxsize=1024)
+def _style(font: str, flags: int) -> tuple[bool, bool, bool, bool]:
+    """(bold, italic, mono, superscript) from the span flags and the font name."""
+    return (
+        bool(flags & _BOLD) or bool(_BOLD_NAME.search(font)),
+        bool(flags & _ITALIC) or bool(_ITALIC_NAME.search(font)),
+        bool(flags & _MONO) or bool(_MONO_NAME.search(font)),
+        bool(flags & _SUPERSCRIPT),
     )
 
 
-def page_lines(page: pymupdf.Page, page_number: int) -> list[Line]:
-    """The text lines of one page, in pymupdf's order; empty lines dropped."""
-    data = page.get_text("dict", flags=TEXT_FLAGS)
+def _piece(span: dict[str, Any]) -> Piece:
+    bold, italic, mono, sup = _style(str(span.get("font", "")), int(span.get("flags", 0)))
+    bbox = span["bbox"]
+    return Piece(normalise_text(span["text"]), bbox[0], bbox[2], span.get("size", 0.0), bold, italic, mono, sup)
+
+
+def page_lines(
+    page: pymupdf.Page,
+    page_number: int,
+    textpage: pymupdf.TextPage | None = None,
+    vectors: list[dict[str, Any]] | None = None,
+) -> list[Line]:
+    """The text lines of one page, in pymupdf's order; empty lines dropped. When `vectors` is a
+    list, the page's vector blocks are appended to it (the textpage must collect vectors)."""
+    flags = VECTOR_FLAGS if vectors is not None else TEXT_FLAGS
+    data = page.get_text("dict", flags=flags, textpage=textpage)
+    if vectors is not None:
+        vectors.extend(b for b in data.get("blocks", ()) if b.get("type") == 3)
     out: list[Line] = []
     for bno, block in enumerate(data.get("blocks", ())):
         if block.get("type", 0) != 0:
@@ -153,11 +169,18 @@ def page_lines(page: pymupdf.Page, page_number: int) -> list[Line]:
             if abs(wdir[1]) > 0.2:
                 # Rotated text (margin stamps, rotated table heads): kept, but as its own block.
                 bno = -1 - bno
-            pieces = [_piece(s) for s in raw.get("spans", ()) if s.get("text")]
-            if not pieces or not "".join(p.text for p in pieces).strip():
+            pieces = []
+            for span in raw.get("spans", ()):
+                text = span["text"]
+                if text:
+                    bold, italic, mono, sup = _style(span["font"], span["flags"])
+                    box = span["bbox"]
+                    pieces.append(Piece(normalise_text(text), box[0], box[2], span["size"], bold, italic, mono, sup))
+            if not pieces:
                 continue
             x0, y0, x1, y1 = raw["bbox"]
-            line = Line(page_number, float(x0), float(y0), float(x1), float(y1), pieces, bno)
+            line = Line(page_number, x0, y0, x1, y1, pieces, bno)
             line.finish()
-            out.append(line)
+            if line.text.strip():
+                out.append(line)
     return out

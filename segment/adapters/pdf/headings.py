@@ -255,7 +255,10 @@ def _similar(a: str, b: str) -> float:
         return 0.8 + 0.2 * len(short) / len(long_)
     if abs(len(a) - len(b)) > 0.5 * max(len(a), len(b)):
         return 0.0
-    return SequenceMatcher(None, a, b, autojunk=False).ratio()
+    matcher = SequenceMatcher(None, a, b, autojunk=False)
+    if matcher.real_quick_ratio() < 0.8 or matcher.quick_ratio() < 0.8:
+        return 0.0  # upper bounds already below every threshold we use
+    return matcher.ratio()
 
 
 def apply_outline(
@@ -274,6 +277,13 @@ def apply_outline(
     inserts: dict[int, list[tuple[int, str]]] = {}
     last_idx = -1
     unmatched = 0
+    heads: dict[int, str] = {}
+
+    def head_of(idx: int) -> str:
+        if idx not in heads:
+            heads[idx] = norm(" ".join(ln.text.strip() for ln in items[idx].first.lines[:MAX_LINES]))
+        return heads[idx]
+
     for level, title, page in toc:
         target = norm(title)
         best: tuple[float, int] | None = None
@@ -282,8 +292,7 @@ def apply_outline(
                 for idx in by_page.get(p, ()):
                     if idx in assigned:
                         continue
-                    head = " ".join(ln.text.strip() for ln in items[idx].first.lines[:MAX_LINES])
-                    score = _similar(norm(head), target)
+                    score = _similar(head_of(idx), target)
                     if score < 0.8:
                         continue
                     score += 0.1 if items[idx].level is not None else 0.0

@@ -52,12 +52,14 @@ class TextBlock:
     @property
     def bbox(self) -> tuple[float, float, float, float]:
         """(x0, y0, x1, y1) of all lines."""
-        return (
-            self.x0,
-            min(ln.y0 for ln in self.lines),
-            max(ln.x1 for ln in self.lines),
-            self.y1,
-        )
+        lines = self.lines
+        x0, y0, x1, y1 = lines[0].x0, lines[0].y0, lines[0].x1, lines[0].y1
+        for ln in lines[1:]:
+            x0 = ln.x0 if ln.x0 < x0 else x0
+            y0 = ln.y0 if ln.y0 < y0 else y0
+            x1 = ln.x1 if ln.x1 > x1 else x1
+            y1 = ln.y1 if ln.y1 > y1 else y1
+        return (x0, y0, x1, y1)
 
     @property
     def text(self) -> str:

@@ -12,6 +12,7 @@ milliseconds a page, so it is only run on candidate pages too.
 from __future__ import annotations
 
 import re
+from bisect import bisect_left, bisect_right
 from dataclasses import dataclass, field
 from statistics import median
 
@@ -34,6 +35,10 @@ class Rulings:
     h: list[tuple[float, float, float]] = field(default_factory=list)
     v: list[tuple[float, float, float]] = field(default_factory=list)
     fills: list[tuple[float, float, float, float]] = field(default_factory=list)
+    frames: list[tuple[float, float, float, float]] = field(default_factory=list)
+    """Stroked rectangles (boxed notes, listings, one-cell tables)."""
+    groups: list[tuple[list[int], list[int]]] | None = None
+    """Connected components, computed once (see `_components`)."""
 
 
 @dataclass(slots=True)
@@ -75,8 +80,39 @@ def rulings(page: pymupdf.Page) -> Rulings:
                 elif stroked or (fill is not None and not white):
                     out.h += [(y0, x0, x1), (y1, x0, x1)]
                     out.v += [(x0, y0, y1), (x1, y0, y1)]
+                    if stroked:
+                        out.frames.append((x0, y0, x1, y1))
                     if fill is not None and not white:
                         out.fills.append((x0, y0, x1, y1))
+    return out
+
+
+def rulings_from_vectors(vectors: list[dict[str, object]], width: float, height: float) -> Rulings:
+    """Rulings from the vector blocks MuPDF collects with the text (`TEXT_COLLECT_VECTORS`): one
+    pass over the page instead of a second one for `get_cdrawings()`. Only straight pieces and
+    rectangles count (`isrect`); curves never rule a table."""
+    out = Rulings()
+    for vec in vectors:
+        if not vec.get("isrect"):
+            continue
+        x0, y0, x1, y1 = vec["bbox"]  # type: ignore[misc]
+        w, h = x1 - x0, y1 - y0
+        if w > width * 0.98 and h > height * 0.98:
+            continue  # page background
+        stroked = bool(vec.get("stroked"))
+        color = vec.get("color", 0)
+        white = not stroked and color == 0xFFFFFF
+        if h <= 2.5 and w > 4:
+            out.h.append(((y0 + y1) / 2, x0, x1))
+        elif w <= 2.5 and h > 4:
+            out.v.append(((x0 + x1) / 2, y0, y1))
+        elif w > 4 and h > 4 and not white:
+            out.h += [(y0, x0, x1), (y1, x0, x1)]
+            out.v += [(x0, y0, y1), (x1, y0, y1)]
+            if stroked:
+                out.frames.append((x0, y0, x1, y1))
+            else:
+                out.fills.append((x0, y0, x1, y1))
     return out
 
 
@@ -88,10 +124,11 @@ def _add_segment(out: Rulings, xa: float, ya: float, xb: float, yb: float) -> No
 
 
 def is_candidate(r: Rulings) -> bool:
-    """True when the page's rulings could frame a table (grid, or two rules of equal width)."""
+    """True when the page's rulings could frame a table: a vertical ruling that divides a
+    horizontal one (a column boundary, not just the side of a box), or two rules of equal width."""
     if len(r.h) < 2 or len(r.h) + len(r.v) > MAX_SEGMENTS:
         return False
-    if len(r.v) >= 2:
+    if r.v and _inner_vertical(r):
         return True
     extents: dict[tuple[int, int], int] = {}
     for _, x0, x1 in r.h:
@@ -102,12 +139,42 @@ def is_candidate(r: Rulings) -> bool:
     return False
 
 
+def _inner_vertical(r: Rulings) -> bool:
+    if len(r.h) * len(r.v) > 200_000:
+        return True  # too many to check cheaply: let the detectors decide
+    for x, vy0, vy1 in r.v:
+        for y, hx0, hx1 in r.h:
+            if hx0 + 4 < x < hx1 - 4 and vy0 - TOL <= y <= vy1 + TOL:
+                return True
+    return False
+
+
+def mark_framed(lines: list[Line], r: Rulings) -> None:  # noqa: C901
+    """Flag lines inside a stroked rectangle ("boxed"): boxed notes, listings and one-column
+    tables are never headings."""
+    frames = list(r.frames)
+    if r.v and len(r.h) + len(r.v) <= 80:
+        # Frames drawn as four separate lines: small components with two xs and two ys.
+        for hs, vs in _components(r):
+            if hs and vs:
+                xs = _cluster([r.v[j][0] for j in vs], 4.0)
+                ys = _cluster([r.h[i][0] for i in hs], 4.0)
+                if len(xs) == 2 and len(ys) == 2:
+                    frames.append((xs[0], ys[0], xs[1], ys[1]))
+    for x0, y0, x1, y1 in frames:
+        if x1 - x0 < 20 or y1 - y0 < 8:
+            continue
+        for ln in lines:
+            if x0 - 1 <= ln.x0 and ln.x1 <= x1 + 1 and y0 - 1 <= ln.y0 and ln.y1 <= y1 + 1:
+                ln.flags.add("boxed")
+
+
 # ---------------------------------------------------------------- words and styles on a page
 
 
 @dataclass(slots=True)
 class Word:
-    """A word with its box; `key` orders words in reading order within a cell."""
+    """A word with its box and centre; `key` orders words in reading order within a cell."""
 
     x0: float
     y0: float
@@ -115,23 +182,19 @@ class Word:
     y1: float
     text: str
     key: tuple[int, int, int]
+    cx: float = 0.0
+    cy: float = 0.0
 
-    @property
-    def cx(self) -> float:
-        """Horizontal centre."""
-        return (self.x0 + self.x1) / 2
-
-    @property
-    def cy(self) -> float:
-        """Vertical centre."""
-        return (self.y0 + self.y1) / 2
+    def __post_init__(self) -> None:
+        self.cx = (self.x0 + self.x1) / 2
+        self.cy = (self.y0 + self.y1) / 2
 
 
-def page_words(page: pymupdf.Page) -> list[Word]:
+def page_words(page: pymupdf.Page, textpage: pymupdf.TextPage | None = None) -> list[Word]:
     """Words of the page (only called on candidate pages)."""
     return [
         Word(w[0], w[1], w[2], w[3], normalise_text(w[4]), (w[5], w[6], w[7]))
-        for w in page.get_text("words", flags=TEXT_FLAGS)
+        for w in page.get_text("words", flags=TEXT_FLAGS, textpage=textpage)
     ]
 
 
@@ -170,6 +233,12 @@ def _cluster(values: list[float], tol: float = 1.5) -> list[float]:
 
 def _components(r: Rulings) -> list[tuple[list[int], list[int]]]:
     """Connected groups of rulings: (indices into h, indices into v)."""
+    if r.groups is None:
+        r.groups = _connect(r)
+    return r.groups
+
+
+def _connect(r: Rulings) -> list[tuple[list[int], list[int]]]:
     nh = len(r.h)
     parent = list(range(nh + len(r.v)))
 
@@ -184,9 +253,14 @@ def _components(r: Rulings) -> list[tuple[list[int], list[int]]]:
         if ra != rb:
             parent[ra] = rb
 
+    v_order = sorted(range(len(r.v)), key=lambda j: r.v[j][0])
+    v_xs = [r.v[j][0] for j in v_order]
     for i, (y, hx0, hx1) in enumerate(r.h):
-        for j, (x, vy0, vy1) in enumerate(r.v):
-            if hx0 - TOL <= x <= hx1 + TOL and vy0 - TOL <= y <= vy1 + TOL:
+        lo = bisect_left(v_xs, hx0 - TOL)
+        hi = bisect_right(v_xs, hx1 + TOL)
+        for j in v_order[lo:hi]:
+            _, vy0, vy1 = r.v[j]
+            if vy0 - TOL <= y <= vy1 + TOL:
                 union(i, nh + j)
     by_y = sorted(range(nh), key=lambda i: (round(r.h[i][0]), r.h[i][1]))
     for a, b in zip(by_y, by_y[1:]):
@@ -221,8 +295,6 @@ def grid_tables(
         # Open frames (no outer verticals or no outer rules) still bound the table.
         ys = _cluster([r.h[i][0] for i in hs] + [min(r.v[j][1] for j in vs), max(r.v[j][2] for j in vs)], 4.0)
         xs = _cluster([r.v[j][0] for j in vs] + [min(r.h[i][1] for i in hs), max(r.h[i][2] for i in hs)], 4.0)
-        if len(xs) == 2 and len(ys) == 2:
-            _mark_boxed(lines, (xs[0], ys[0], xs[1], ys[1]))
         if len(xs) < 3 or len(ys) < 2:
             continue
         table = _grid_table(page_no, r, [r.v[j] for j in vs], xs, ys, words, lines)
@@ -282,17 +354,6 @@ def _grid_table(
         header = [rows.pop(0)]
         boxes.pop(0)
     return FoundTable(page_no, bbox, header, rows, boxes, "grid")
-
-
-def _mark_boxed(lines: list[Line], box: tuple[float, float, float, float]) -> None:
-    """Flag lines inside a ruled frame: boxed notes, listings and one-column tables are never
-    headings."""
-    x0, y0, x1, y1 = box
-    if x1 - x0 < 20 or y1 - y0 < 8:
-        return
-    for ln in lines:
-        if x0 - 1 <= ln.x0 and ln.x1 <= x1 + 1 and y0 - 1 <= ln.y0 and ln.y1 <= y1 + 1:
-            ln.flags.add("boxed")
 
 
 def _text_row_breaks(words: list[Word]) -> list[float]:
@@ -496,22 +557,33 @@ def grid_boxes(r: Rulings) -> list[tuple[float, float, float, float]]:
     return boxes
 
 
+def body_band(lines: list[Line]) -> tuple[float, float]:
+    """Top and bottom of the body text: rules outside it decorate the page (running head and
+    foot rules, page frames) and never bound a table."""
+    if not lines:
+        return (float("-inf"), float("inf"))
+    return (min(ln.y0 for ln in lines) - 2, max(ln.y1 for ln in lines) + 2)
+
+
 def find_page_tables(
-    page: pymupdf.Page, page_no: int, lines: list[Line], engine: str = "own", r: Rulings | None = None
+    page: pymupdf.Page,
+    page_no: int,
+    lines: list[Line],
+    engine: str = "own",
+    r: Rulings | None = None,
+    textpage: pymupdf.TextPage | None = None,
 ) -> tuple[list[FoundTable], bool]:
     """Tables on one page, and whether the page was a candidate at all."""
     r = r if r is not None else rulings(page)
-    if not is_candidate(r):
+    top, bottom = body_band(lines)
+    inner = [h for h in r.h if top <= h[0] <= bottom]
+    if not is_candidate(Rulings(inner, r.v, r.fills) if len(inner) < len(r.h) else r):
         return [], False
     if engine == "pymupdf":
         return pymupdf_tables(page, page_no), True
-    words = page_words(page)
+    words = page_words(page, textpage)
     grids, free_h = grid_tables(page_no, r, words, lines)
-    if lines:
-        # Rules above or below all body text decorate the page (running head and foot rules).
-        top = min(ln.y0 for ln in lines) - 2
-        bottom = max(ln.y1 for ln in lines) + 2
-        free_h = [i for i in free_h if top <= r.h[i][0] <= bottom]
+    free_h = [i for i in free_h if top <= r.h[i][0] <= bottom]
     rest = [w for w in words if not any(_inside(w, t.bbox) for t in grids)]
     rules = rule_tables(page_no, r, free_h, rest, lines)
     return grids + rules, True
