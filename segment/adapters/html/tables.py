@@ -7,8 +7,10 @@ past the last row of its group lengthens the table. Every slot a cell covers get
 text, so each row carries all its cells. Header rows are the `thead` rows, else the leading
 rows made only of `th` cells. Nested tables are flattened into their cell's text.
 
-Navigation and layout tables: `role="presentation"`/`"none"` tables are layout and their cells
-are read as ordinary content; tables whose `summary`/`aria-label` says navigation, or that look
+Navigation and layout tables: `role="presentation"`/`"none"` tables, tables with a heading in a
+cell and single-cell tables are layout (common practice of readers' heuristics; the HTML standard
+says tables must not be used as layout aids, but old pages do), and their cells are read as
+ordinary content; tables whose `summary`/`aria-label` says navigation, or that look
 like a bar of links (at most 3 rows, no `thead` or `caption`, every non-empty cell at most 8
 words, and at least two cells -- and at least half of them -- nothing but links: DocBook's
 Prev/Up/Home/Next bars), are navigation and dropped.
@@ -21,7 +23,7 @@ from dataclasses import dataclass, field
 
 from lxml import etree
 
-from segment.adapters.html.tags import tag_of
+from segment.adapters.html.tags import HEADING_TAGS, tag_of
 from segment.adapters.html.text import collapse, flat_text, has_block, spaced_text
 from segment.tree import Row, Span, Table, merge_spans
 
@@ -59,6 +61,12 @@ def table_kind(el: etree._Element) -> str:
     role = (el.get("role") or "").lower()
     if role in ("presentation", "none"):
         return "layout"
+    if next(el.iter(*HEADING_TAGS), None) is not None:
+        return "layout"  # a heading inside a cell: the table lays out a page, it holds no data
+    cells = el.iter("td", "th")
+    first = next(cells, None)
+    if first is not None and first.tag == "td" and next(cells, None) is None and el.find("caption") is None:
+        return "layout"  # a single data cell: a frame around content
     label = (el.get("summary") or "") + " " + (el.get("aria-label") or "")
     if _NAV_WORDS.search(label) or role == "navigation":
         return "navigation"
