@@ -203,7 +203,9 @@ class Walker:
         elif tag == "blockquote":
             self._push(stack, f, el, _CONTAINER, Quote(), self._finish_quote)
             return True
-        elif tag == "details":
+        elif tag == "details" and next(el.iter(*HEADING_TAGS), None) is None:
+            # A collapsible box is one labelled block; one that holds headings wraps a part of
+            # the page (rustdoc's "Expand description"), so it is read as ordinary content.
             summary = next((c for c in el if tag_of(c) == "summary"), None)
             label = flat_text(summary) if summary is not None else None
             if summary is not None:
