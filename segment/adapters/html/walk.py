@@ -247,6 +247,8 @@ class Walker:
 
     def _mark_captions(self, el: etree._Element, tag: str) -> None:
         """Captions outside the table: `figure > figcaption`, DocBook's `div.table > p.title`."""
+        if tag != "figure" and not (tag == "div" and "table" in (el.get("class") or "")):
+            return
         first = next((c for c in el if isinstance(c.tag, str)), None)
         if first is None:
             return
