@@ -8,6 +8,8 @@ the 8-byte signature).
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import pytest
 
 import segment
@@ -113,3 +115,28 @@ def test_empty_pages_give_an_empty_document(data: bytes) -> None:
     doc = parse(data, "empty.html")
     assert doc.root.blocks == [] and doc.sections == []
     assert list(segment.chunk(doc, SMALL)) == []
+
+
+def test_soup_fallback_tree_matches_lxml() -> None:
+    # The beautifulsoup4 path (html.parser, rebuilt as lxml elements) that reads what lxml gives
+    # up on: same tree for well-formed markup, bs4's source lines kept, deep nesting flattened.
+    from bs4 import BeautifulSoup
+
+    from segment.adapters.html import build
+    from segment.adapters.html.dom import MAX_DEPTH, soup_to_etree
+    from segment.tree import Document
+
+    path = Path(__file__).resolve().parents[1] / "fixtures" / "html" / "blocks.html"
+    data = path.read_bytes()
+    via_soup = build(Document(source="b.html", format="html"), soup_to_etree(BeautifulSoup(data, "html.parser")))
+    assert pretty(via_soup) == pretty(parse(data, "b.html"))
+    deep = b"<div>" * (MAX_DEPTH + 50) + b"<p>deep words</p>" + b"</div>" * (MAX_DEPTH + 50)
+    tree = soup_to_etree(BeautifulSoup(deep, "html.parser"))
+    assert tree is not None and "deep words" in "".join(tree.itertext())
+    assert max(len(list(el.iterancestors())) for el in tree.iter()) <= MAX_DEPTH + 1
+
+
+def test_markup_free_pages_are_empty_without_warnings() -> None:
+    for data in (b"<!-- only a comment -->", b"<!DOCTYPE html>", b'<?xml version="1.0"?>'):
+        doc = parse(data, "empty.html")
+        assert doc.warnings == [] and doc.root.blocks == []

@@ -11,6 +11,7 @@ XML declaration, and bytes keep `sourceline`). Two fallbacks, each recorded as a
 
 from __future__ import annotations
 
+import re
 from typing import Any
 
 from lxml import etree
@@ -18,6 +19,7 @@ from lxml import etree
 MAX_DEPTH = 512
 """Elements nested deeper than this are flattened into text by the fallback parser."""
 
+_TAG_START = re.compile(rb"<[A-Za-z]")
 _BLOCK_LIKE = frozenset({"p", "div", "li", "tr", "td", "th", "dd", "dt", "br", "pre", "table", "section"})
 
 
@@ -37,9 +39,14 @@ def parse_tree(data: bytes, warnings: list[str]) -> etree._Element | None:
     except (etree.XMLSyntaxError, ValueError):
         root = None
     if any("Excessive depth" in entry.message for entry in parser.error_log):
-        warnings.append(f"nesting deeper than libxml2 allows: elements below depth {MAX_DEPTH} flattened")
+        warnings.append(
+            f"nesting deeper than libxml2 allows: elements below depth {MAX_DEPTH} flattened, "
+            "no line numbers"
+        )
         return _parse_flat(data)
     if root is None:
+        if _TAG_START.search(data) is None:  # comments, a doctype, text without markup
+            return None
         return _parse_soup(data, warnings)
     return root
 
@@ -83,10 +90,14 @@ def _parse_flat(data: bytes) -> etree._Element | None:
 
 def _parse_soup(data: bytes, warnings: list[str]) -> etree._Element | None:
     """Broken markup lxml gave up on: beautifulsoup4 + html.parser, rebuilt as an lxml tree."""
+    import warnings as py_warnings
+
     from bs4 import BeautifulSoup
 
     warnings.append("lxml could not parse the page: read with beautifulsoup4's html.parser")
-    soup = BeautifulSoup(data, "html.parser", from_encoding="utf-8")
+    with py_warnings.catch_warnings():  # bs4 warns about XHTML read as HTML: we know
+        py_warnings.simplefilter("ignore")
+        soup = BeautifulSoup(data, "html.parser", from_encoding="utf-8")
     return soup_to_etree(soup)
 
 
