@@ -69,16 +69,13 @@ def decode(data: bytes, source: str) -> Decoded:
 
 
 def _recode(data: bytes, codec: str, warnings: list[str]) -> Decoded:
-    if codec == "utf-8":
-        try:
-            data.decode("utf-8")
-            return Decoded(data, codec, warnings)
-        except UnicodeDecodeError:
-            pass
-    text = data.decode(codec, errors="replace")
     try:
-        data.decode(codec)
+        text = data.decode(codec)
     except UnicodeDecodeError:
+        text = data.decode(codec, errors="replace")
         bad = text.count("\ufffd") - (data.count(b"\xef\xbf\xbd") if codec == "utf-8" else 0)
         warnings.append(f"bytes not valid {codec}: {max(bad, 1)} replaced with U+FFFD")
+    else:
+        if codec == "utf-8":
+            return Decoded(data, codec, warnings)  # already what the parser is told
     return Decoded(text.encode("utf-8"), codec, warnings)
