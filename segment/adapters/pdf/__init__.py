@@ -144,7 +144,7 @@ def _parse_open(
     all_lines = [ln for lines in pages for ln in lines if "running" not in ln.flags]
     vocab = blk.vocabulary(all_lines)
     items = [blk.classify(b, vocab) for b in flows]  # type: ignore[arg-type]
-    items = blk.merge_code(items)
+    items = blk.merge_split_tables(blk.merge_code(items))
     stats = headings.font_stats(items)
     headings.detect(items, stats)
     meta = doc.metadata or {}
@@ -157,7 +157,7 @@ def _parse_open(
     unmatched = 0
     if toc:
         outline = [(int(lvl), str(t), int(p)) for lvl, t, p, *_ in toc]
-        items, unmatched = headings.apply_outline(items, outline, doc.page_count)
+        items, unmatched = headings.apply_outline(items, outline, doc.page_count, stats.body_size)
     items = blk.merge_continuations(items, vocab)
 
     document = Document(source=source, format="pdf", title=title)

@@ -40,6 +40,8 @@ class Item:
     notes: str = ""
     """Processing marks (e.g. "merged" code)."""
     cache: tuple[int, tuple[float, float, float]] | None = None
+    extra_rows: list[tuple[list[str], int]] = field(default_factory=list)
+    """Rows of a table's continuation on later pages (cells, page)."""
 
     @property
     def first(self) -> TextBlock:
@@ -244,6 +246,32 @@ def merge_code(items: list[Item]) -> list[Item]:
     for item in out:
         if item.kind == "code" and item.notes == "merged":
             item.code_lines = code_lines(item.lines)
+    return out
+
+
+def merge_split_tables(items: list[Item]) -> list[Item]:
+    """Join a table cut by a page break: consecutive in the flow, on consecutive pages, with the
+    same number of columns. A header row repeated on the new page is dropped."""
+    out: list[Item] = []
+    for item in items:
+        if item.kind == "table" and out and out[-1].kind == "table":
+            prev, here = out[-1].blocks[-1].payload, item.first.payload
+            width = lambda t: len((t.header + t.rows)[0]) if (t.header + t.rows) else 0  # noqa: E731
+            if (
+                prev is not None
+                and here is not None
+                and here.page == prev.page + 1  # type: ignore[attr-defined]
+                and width(prev) == width(here)
+            ):
+                first = out[-1].first.payload
+                rows = here.rows  # type: ignore[attr-defined]
+                if here.header and here.header != first.header:  # type: ignore[attr-defined]
+                    rows = here.header + rows  # type: ignore[attr-defined]
+                out[-1].blocks.append(item.first)
+                out[-1].notes = "joined"
+                out[-1].extra_rows.extend((row, here.page) for row in rows)  # type: ignore[attr-defined]
+                continue
+        out.append(item)
     return out
 
 

@@ -77,7 +77,13 @@ def _anchor(span: Span) -> str | None:
 def _node(item: Item) -> Paragraph | Code | Table | None:
     if item.kind == "table":
         payload = item.first.payload
-        return table_node(payload) if isinstance(payload, FoundTable) else None
+        if not isinstance(payload, FoundTable):
+            return None
+        table = table_node(payload)
+        for cells, page in item.extra_rows:
+            table.rows.append(Row(cells=list(cells), span=Span(pages=(page, page))))
+            table.span = table.span.merge(Span(pages=(page, page)))
+        return table
     if item.kind == "code":
         return Code(lines=list(item.code_lines), span=item_span(item))
     if item.kind == "heading":

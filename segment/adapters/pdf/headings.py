@@ -167,21 +167,37 @@ def detect(items: list[Item], stats: FontStats) -> None:
         if depth is not None:
             votes.setdefault(style_of(item), Counter())[depth] += 1
     styles = sorted({style_of(i) for i in chosen}, key=lambda s: (-s[0], not s[1]))
+    # Walk styles from the largest: numbered styles take their number's depth, shifted down when
+    # a larger style already holds that level (an unnumbered title above "1 Introduction");
+    # unnumbered styles go one level below the style before them.
     level_of: dict[tuple[float, bool], int] = {}
+    offset_of: dict[tuple[float, bool], int] = {}
     prev = 0
+    offset = 0
     for style in styles:
         if style in votes:
-            level = max(votes[style].most_common(1)[0][0], prev if prev else 1)
+            level = votes[style].most_common(1)[0][0] + offset
+            if prev and level <= prev and not _same_level_labelled(style, chosen):
+                offset += prev - level + 1
+                level = prev + 1
         else:
             level = prev + 1
         level_of[style] = min(level, 9)
+        offset_of[style] = offset
         prev = level_of[style]
     for item in chosen:
         if item.level == 1:
             continue
         depth = numbering(item.text)
-        item.level = min(depth, 9) if depth is not None else level_of[style_of(item)]
+        style = style_of(item)
+        item.level = min(depth + offset_of[style], 9) if depth is not None else level_of[style]
     _drop_empty(items)
+
+
+def _same_level_labelled(style: tuple[float, bool], chosen: list[Item]) -> bool:
+    """True when chapter-labelled headings (level 1 already) use this style: then numbering
+    depths of the style are absolute ("CHAPTER ONE" / "ABOUT" / "1.1 Scope" share a size)."""
+    return any(i.level == 1 and style_of(i) == style for i in chosen)
 
 
 def _contents_pages(items: list[Item]) -> set[int]:
@@ -262,7 +278,7 @@ def _similar(a: str, b: str) -> float:
 
 
 def apply_outline(
-    items: list[Item], toc: list[tuple[int, str, int]], page_count: int
+    items: list[Item], toc: list[tuple[int, str, int]], page_count: int, body_size: float = 0.0
 ) -> tuple[list[Item], int]:
     """Name and level headings from the outline; returns the new flow and the unmatched count.
 
@@ -326,8 +342,11 @@ def apply_outline(
             item.level, item.text = level, text
             current = level
         elif item.level is not None:
+            # Outlines list the structure; an unlisted heading is kept only when it is set in a
+            # larger type than the body and smaller than every listed one (a deeper level).
             style = style_of(item)
-            if style not in matched_styles and style[0] <= smallest and current:
+            larger = item.size >= body_size + 0.9
+            if larger and style not in matched_styles and style[0] <= smallest and current:
                 item.level = current + 1
             else:
                 item.level = None

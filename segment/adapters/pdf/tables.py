@@ -143,9 +143,16 @@ def _inner_vertical(r: Rulings) -> bool:
     if len(r.h) * len(r.v) > 200_000:
         return True  # too many to check cheaply: let the detectors decide
     for x, vy0, vy1 in r.v:
+        left = right = False
         for y, hx0, hx1 in r.h:
-            if hx0 + 4 < x < hx1 - 4 and vy0 - TOL <= y <= vy1 + TOL:
-                return True
+            if not vy0 - TOL <= y <= vy1 + TOL:
+                continue
+            if hx0 + 4 < x < hx1 - 4:
+                return True  # a rule crosses it
+            left = left or abs(hx1 - x) <= TOL and hx0 < x - 4
+            right = right or abs(hx0 - x) <= TOL and hx1 > x + 4
+            if left and right:
+                return True  # cell borders drawn piece by piece meet on it
     return False
 
 
@@ -316,7 +323,8 @@ def _grid_table(
     inside = [w for w in words if xs[0] <= w.cx <= xs[-1] and ys[0] <= w.cy <= ys[-1]]
     if not inside:
         return None
-    if len(ys) == 2:
+    by_lines = len(ys) == 2
+    if by_lines:
         # Only an outer frame horizontally: rows follow the text lines.
         ys = [ys[0]] + _text_row_breaks(inside) + [ys[-1]]
     rows: list[list[str]] = []
@@ -334,10 +342,17 @@ def _grid_table(
             text = _cell_text([w for w in band if xs[start] <= w.cx <= xs[c]])
             cells.extend([text] * (c - start))
             start = c
-        if any(cells):
+        if by_lines and rows and not cells[0] and any(cells):
+            # No ruling between rows and nothing in the first column: a wrapped cell goes on.
+            rows[-1] = [f"{a} {b}".strip() for a, b in zip(rows[-1], cells)]
+            boxes[-1] = (xs[0], boxes[-1][1], xs[-1], bottom)
+        elif any(cells):
             rows.append(cells)
             boxes.append((xs[0], top, xs[-1], bottom))
     filled = sum(1 for row in rows for cell in row if cell)
+    if len(rows) == 1 and len({c for c in rows[0] if c}) >= 2 and _bold_share(lines, boxes[0]) >= 0.6:
+        # A lone header row: the table goes on over the page break (joined in the flow later).
+        return FoundTable(page_no, bbox, [rows[0]], [], [], "grid")
     if len(rows) < 2 or filled < 3:
         return None
     # A framed box (code listing, note) is not a table: real tables have rows of distinct cells
@@ -562,7 +577,7 @@ def body_band(lines: list[Line]) -> tuple[float, float]:
     foot rules, page frames) and never bound a table."""
     if not lines:
         return (float("-inf"), float("inf"))
-    return (min(ln.y0 for ln in lines) - 2, max(ln.y1 for ln in lines) + 2)
+    return (min(ln.y0 for ln in lines) - 6, max(ln.y1 for ln in lines) + 6)
 
 
 def find_page_tables(
