@@ -81,9 +81,10 @@ _HIDDEN_STYLE = re.compile(r"display\s*:\s*none|visibility\s*:\s*hidden", re.IGN
 
 
 def tag_of(el: etree._Element) -> str:
-    """Lower-case tag name, or "" for comments and processing instructions."""
+    """Tag name, or "" for comments and processing instructions. libxml2's HTML parser (and our
+    bs4 conversion) already lower-case element names."""
     tag = el.tag
-    return tag.lower() if isinstance(tag, str) else ""
+    return tag if tag.__class__ is str else ""
 
 
 def class_tokens(el: etree._Element) -> set[str]:

@@ -160,6 +160,14 @@ class Walker:
 
     def _block(self, stack: list[_Frame], f: _Frame, el: etree._Element, tag: str) -> bool:
         """Handle a block child; True when a frame was pushed (its tail is read when it closes)."""
+        if tag == "p" and not has_block(el):  # the commonest block first
+            raw = "".join(el.itertext())
+            text = collapse(raw)
+            if text:
+                span = Span(lines=line_range(el.sourceline, raw))
+                self._add(f.sink, Paragraph(text, span))
+                f.line = _later(f.line, span.lines[1] if span.lines else None)
+            return False
         level = heading_level(el, tag)
         if level:
             self._heading(f, el, level)
