@@ -1,0 +1,223 @@
+"""Watcher faults and durability faults the existing daemon tests do not reach.
+
+RELIABILITY rows: W2 (watch limit: the inotify watch cannot be added), W12 (network file
+systems: watched by polling), S3 (fsync returns EIO), S4 (ENOSPC while writing output). Faults
+are injected with monkeypatch in this process (the writes happen in the daemon's own process;
+workers only parse). Every wait is on a condition with a deadline, never a fixed sleep.
+"""
+
+from __future__ import annotations
+
+import errno
+import os
+import time
+from collections.abc import Callable, Iterator
+from pathlib import Path
+
+import pytest
+from watchdog.observers import Observer
+from watchdog.observers.polling import PollingObserver
+
+import daemon.watch as watch
+from daemon import Watcher, read_status, reconcile
+from daemon.commands import run_build
+from segment.settings import Settings
+from tests.daemon_helpers import assert_feed_matches, chunk_files, page, quick_check, temp_files, tree_of, write
+
+QUIET_MS = 50
+
+
+def wait_for(predicate: Callable[[], object], timeout: float = 20.0) -> None:
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        if predicate():
+            return
+        time.sleep(0.02)  # polling a condition with a deadline, not waiting a fixed time
+    raise AssertionError("condition not met in time")
+
+
+def fresh_equal(src: Path, out: Path, tmp_path: Path) -> None:
+    oracle = tmp_path / f"oracle-{time.monotonic_ns()}"
+    reconcile(src, oracle, full=True)
+    assert chunk_files(out) == chunk_files(oracle)
+    assert temp_files(out) == [] and quick_check(out) == "ok"
+    assert_feed_matches(out)
+
+
+@pytest.fixture
+def docs(tmp_path: Path) -> Path:
+    root = tmp_path / "docs"
+    tree_of(6, root)
+    return root
+
+
+# -- W2: the watch limit -----------------------------------------------------------------------
+
+
+class _NoWatchesLeft(Observer):  # type: ignore[misc, valid-type]
+    """An inotify observer whose watches cannot be added (max_user_watches exhausted)."""
+
+    def start(self) -> None:
+        raise OSError(errno.ENOSPC, "inotify watch limit reached")
+
+
+@pytest.mark.timeout(60)
+def test_an_exhausted_watch_limit_falls_back_to_polling_and_says_degraded(
+        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # RELIABILITY W2, portable variant: the watch-adding call raises OSError(ENOSPC).
+    monkeypatch.setattr(watch, "Observer", _NoWatchesLeft)
+    out = tmp_path / "out"
+    with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
+        assert w.loop is not None and isinstance(w.loop.observer, PollingObserver)
+        assert read_status(out).degraded == "watch_limit"  # type: ignore[union-attr]
+        write(docs / "seen-by-polling.md", page("Geofences", "Polling still sees new pages."))
+        w.sync(20)
+        assert "seen-by-polling.md.jsonl" in chunk_files(out)
+    fresh_equal(docs, out, tmp_path)
+
+
+def test_more_folders_than_watches_is_detected_before_watching(
+        tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # watchdog 7.1 is silent when sub-folder watches fail (RELIABILITY W2), so we count first.
+    for i in range(30):
+        (tmp_path / f"d{i}").mkdir()
+    real = Path.read_text
+
+    def limit(self: Path, *args: object, **kwargs: object) -> str:
+        if str(self) == "/proc/sys/fs/inotify/max_user_watches":
+            return "20\n"
+        return real(self, *args, **kwargs)  # type: ignore[arg-type]
+
+    monkeypatch.setattr(Path, "read_text", limit)
+    assert watch.watch_limit_exceeded(tmp_path)
+    assert not watch.watch_limit_exceeded(tmp_path / "d0")
+
+
+# -- W12: network file systems -------------------------------------------------------------------
+
+MOUNTINFO = """\
+22 1 0:21 / / rw,relatime shared:1 - ext4 /dev/sda1 rw
+40 22 0:35 / /srv/docs rw,relatime shared:20 - nfs4 files:/export/docs rw,vers=4.2
+41 40 0:36 / /srv/docs/local rw,relatime shared:21 - tmpfs tmpfs rw
+42 22 0:37 / /mnt/share\\040drive rw,relatime shared:22 - cifs //nas/share rw
+43 22 0:38 / /home/me/remote rw,relatime shared:23 - fuse.sshfs me@host:/ rw
+"""
+
+
+def test_the_file_system_type_is_read_from_mountinfo(tmp_path: Path) -> None:
+    info = tmp_path / "mountinfo"
+    info.write_text(MOUNTINFO)
+    fs_type = getattr(watch, "fs_type", None)
+    if fs_type is None:
+        pytest.xfail("daemon/watch.py does not read the file system type (RELIABILITY W12)")
+    assert fs_type(Path("/srv/docs/guides"), str(info)) == "nfs4"
+    assert fs_type(Path("/srv/docs/local/x"), str(info)) == "tmpfs"  # the longest mount wins
+    assert fs_type(Path("/mnt/share drive/a"), str(info)) == "cifs"  # octal escapes decoded
+    assert fs_type(Path("/home/me/remote"), str(info)) == "fuse.sshfs"
+    assert fs_type(Path("/srv/docsx"), str(info)) == "ext4"  # not a prefix match on names
+    assert watch.is_network_fs("nfs4") and watch.is_network_fs("cifs") and watch.is_network_fs("fuse.sshfs")
+    assert not watch.is_network_fs("ext4") and not watch.is_network_fs("overlay")
+
+
+@pytest.mark.timeout(60)
+def test_a_network_file_system_is_watched_by_polling_and_still_converges(
+        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # RELIABILITY W12: inotify does not see changes made by other hosts; poll instead.
+    if not hasattr(watch, "fs_type"):
+        pytest.xfail("daemon/watch.py does not read the file system type (RELIABILITY W12)")
+    monkeypatch.setattr(watch, "fs_type", lambda path, mountinfo="": "nfs4")
+    out = tmp_path / "out"
+    with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
+        assert w.loop is not None and isinstance(w.loop.observer, PollingObserver)
+        assert read_status(out).degraded == "network_fs"  # type: ignore[union-attr]
+        # W3 under polling: an atomic save through a temp file.
+        tmp = docs / ".page0.md.swp"
+        write(tmp, page("Battery care 0", "Saved atomically over a network share."))
+        os.replace(tmp, docs / "area0" / "page0.md")
+        # W5 under polling: many quick rewrites, the last one wins.
+        for i in range(20):
+            write(docs / "area1" / "page1.md", page("Flight logs", f"Revision {i}."))
+        w.sync(20)
+    texts = chunk_files(out)
+    assert b"Saved atomically" in texts["area0/page0.md.jsonl"]
+    assert b"Revision 19." in texts["area1/page1.md.jsonl"]
+    fresh_equal(docs, out, tmp_path)
+
+
+# -- S3 / S4: failed fsync, full disk --------------------------------------------------------------
+
+
+def _is_output_temp(fd: object) -> bool:
+    try:
+        return os.readlink(f"/proc/self/fd/{fd}").endswith(".tmp")
+    except OSError:
+        return False
+
+
+def failing(monkeypatch: pytest.MonkeyPatch, name: str, code: int, times: int = 1) -> dict[str, int]:
+    """Make os.<name> raise OSError(code) for its next `times` calls on a chunk temp file."""
+    real = getattr(os, name)
+    left = {"n": times}
+
+    def fake(*args: object) -> object:
+        if left["n"] > 0 and _is_output_temp(args[0]):
+            left["n"] -= 1
+            if name == "write":  # a short write first: part of the data reaches the temp file
+                real(args[0], bytes(memoryview(args[1])[:7]))  # type: ignore[arg-type]
+            raise OSError(code, os.strerror(code))
+        return real(*args)
+
+    monkeypatch.setattr(os, name, fake)
+    return left
+
+
+@pytest.mark.timeout(60)
+@pytest.mark.parametrize(("call", "code"), [("fsync", errno.EIO), ("write", errno.ENOSPC)])
+def test_a_failed_fsync_or_a_full_disk_commits_nothing_and_the_next_build_converges(
+        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str],
+        call: str, code: int) -> None:
+    # RELIABILITY S3 (never retry a failed fsync and call the data safe) and S4 (ENOSPC).
+    out = tmp_path / "out"
+    assert run_build(docs, out, Settings()) == 0
+    before, seq = chunk_files(out), read_status(out).last_seq  # type: ignore[union-attr]
+    write(docs / "area0" / "page0.md", page("Battery care", "A new paragraph that must not be half-written."))
+    failing(monkeypatch, call, code)
+    assert run_build(docs, out, Settings()) == 1
+    err = capsys.readouterr().err
+    assert os.strerror(code) in err and "Traceback" not in err
+    assert chunk_files(out) == before, "the old chunk file must survive intact"
+    assert temp_files(out) == []
+    assert read_status(out).last_seq == seq  # type: ignore[union-attr]  # the store claims nothing new
+    monkeypatch.undo()
+    assert run_build(docs, out, Settings()) == 0
+    fresh_equal(docs, out, tmp_path)
+
+
+@pytest.fixture
+def quick_retry(monkeypatch: pytest.MonkeyPatch) -> Iterator[None]:
+    for name in ("WRITE_RETRY_S", "RETRY_S"):
+        if hasattr(watch, name):
+            monkeypatch.setattr(watch, name, 1.0)
+    yield
+
+
+@pytest.mark.timeout(90)
+def test_a_write_error_while_watching_keeps_the_watcher_alive_and_is_retried(
+        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, quick_retry: None) -> None:
+    # RELIABILITY S3/S4 under watch: the batch is not committed, the state says so, a retry
+    # converges, and the watcher thread survives.
+    out = tmp_path / "out"
+    with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
+        assert w.loop is not None
+        before = chunk_files(out)
+        left = failing(monkeypatch, "fsync", errno.ENOSPC, times=1)
+        write(docs / "area2" / "page2.md", page("Spare parts", "Written while the disk was full."))
+        wait_for(lambda: left["n"] == 0 and w.loop.degraded)  # type: ignore[union-attr]
+        status = read_status(out)
+        assert status is not None and status.degraded in ("write_error", "disk_full"), status
+        assert chunk_files(out) == before and temp_files(out) == []
+        w.sync(30)  # released once the retry has converged
+        wait_for(lambda: w.loop.degraded == "")  # type: ignore[union-attr]
+        assert b"disk was full" in chunk_files(out)["area2/page2.md.jsonl"]
+        assert w._thread is not None and w._thread.is_alive()
+    fresh_equal(docs, out, tmp_path)
