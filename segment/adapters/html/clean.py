@@ -262,14 +262,15 @@ def _densest(body: etree._Element) -> etree._Element:
 _WRAPPER_TAGS = frozenset({"div", "section", "article", "main", "center", "span", "font", "td"})
 """Elements the heuristic may descend into: generic wrappers, never a table, list or code block."""
 
-_STRING_LENGTH = etree.XPath("string-length(normalize-space(.))")
+_ALL_TEXT = etree.XPath(".//text()", smart_strings=False)
+_LINK_TEXT = etree.XPath(".//a//text()", smart_strings=False)
 
 
 def _text_weight(el: etree._Element) -> int:
-    """Characters of text outside links, whitespace runs counted once (computed in libxml2)."""
-    everything = _STRING_LENGTH(el)
-    links = sum(_STRING_LENGTH(a) for a in el.iter("a"))
-    return int(everything - links)
+    """Characters of text outside links (whitespace at the ends of text nodes not counted)."""
+    everything = sum(len(t.strip()) for t in _ALL_TEXT(el))
+    links = sum(len(t.strip()) for t in _LINK_TEXT(el))
+    return everything - links
 
 
 def _heading_count(el: etree._Element) -> int:
