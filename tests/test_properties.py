@@ -10,6 +10,8 @@ syntax. For every document and budget:
 - the budget holds: every chunk's count fits, unless it is flagged oversize, and the recorded
   count is the counter's;
 - two runs give byte-identical output.
+A second property runs the corpus checker's structural checks (whole code lines, breadcrumbs,
+boundaries, source order) on the same documents.
 
 Every heading gets at least one block: a heading with nothing under it is a known loss (finding
 F4 in the notes; tests/test_corpus_markdown.py covers it on real pages).
@@ -17,10 +19,12 @@ F4 in the notes; tests/test_corpus_markdown.py covers it on real pages).
 
 from __future__ import annotations
 
+import os
 from collections import Counter
 from pathlib import Path
 
-from hypothesis import HealthCheck, given, settings
+import pytest
+from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
 import segment
@@ -58,10 +62,18 @@ def bullet_list(draw: st.DrawFn, depth: int = 0) -> tuple[str, list[str]]:
         marker = f"{i + 1}. " if ordered else "- "
         lines.append(" " * (depth * 3) + marker + " ".join(item))
         words += item
+        pad = " " * (depth * 3 + len(marker))
         if depth < 2 and draw(st.integers(0, 4)) == 0:
             sub, sub_words = draw(bullet_list(depth + 1))
             lines.append(sub.rstrip("\n"))
             words += sub_words
+        elif draw(st.integers(0, 5)) == 0:
+            # A fenced code block inside the item (CommonMark 0.31.2, "List items", rule 1).
+            block, block_words = draw(code())
+            lines.append("")
+            lines += [pad + line if line else line for line in block.rstrip("\n").split("\n")]
+            lines.append("")
+            words += block_words
     return "\n".join(lines) + "\n", words
 
 
@@ -114,8 +126,12 @@ def _chunks(tmp: Path, markdown: str, max_tokens: int) -> tuple[segment.Document
     return segment.parse(path, s), segment.chunk_file(path, s)
 
 
+EXAMPLES = int(os.environ.get("DOCSEGMENT_EXAMPLES", "40"))
+"""Examples per run: 40 in CI (2 cores); raise by hand to hunt, e.g. DOCSEGMENT_EXAMPLES=1000."""
+
 PROPERTY_SETTINGS = settings(
-    max_examples=40,
+    max_examples=EXAMPLES,
+    derandomize=EXAMPLES <= 40,  # CI sees the same examples every run; hunting runs explore
     deadline=None,
     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large, HealthCheck.function_scoped_fixture],
 )
@@ -148,3 +164,36 @@ def test_random_markdown_keeps_words_rows_budget_and_is_deterministic(
     # Two runs, byte-identical output.
     _again_tree, again = _chunks(tmp_path, markdown, max_tokens)
     assert [c.to_json() for c in again] == [c.to_json() for c in chunks]
+
+
+# Without shrinking: a failure is reported as generated (shrinking these documents takes minutes).
+STRUCTURE_SETTINGS = settings(PROPERTY_SETTINGS, phases=[Phase.explicit, Phase.reuse, Phase.generate])
+
+
+@STRUCTURE_SETTINGS
+@given(doc=document(), max_tokens=st.sampled_from([24, 48, 96, 256]))
+def test_random_markdown_passes_the_corpus_checker(
+    tmp_path: Path, doc: tuple[str, Counter[str]], max_tokens: int
+) -> None:
+    """The corpus checker's structural checks (tests/checker.py): whole code lines, breadcrumbs,
+    sentence or block boundaries, chunks in source order, plus rows and budget again."""
+    markdown, want = doc
+    tree, chunks = _chunks(tmp_path, markdown, max_tokens)
+    rep = checker.check_chunks(tree, chunks, markdown, max_tokens, counter_for(None), seen_words=want)
+    for check in checker.CHECKS:
+        assert not getattr(rep, check), f"{check}: {getattr(rep, check)[:3]}\n---\n{markdown}"
+
+
+# Found by the properties above (DOCSEGMENT_EXAMPLES=500) and shrunk by hand; finding F9 in the
+# notes. Strict: when the segmenter keeps the line whole, this XPASS fails until the mark goes.
+@pytest.mark.xfail(
+    strict=True,
+    reason="a code line that fits a chunk inside its fences is cut between words when its list "
+    "item sits in a loose, nested list (F9)",
+)
+def test_code_line_in_nested_item_stays_whole(tmp_path: Path) -> None:
+    line = "a a a a a a aaaaaa aaaaaa = call(x)"
+    markdown = f"- a\n\n   3. a\n      - a\n      - a\n        ```\n        {line}\n        ```\n"
+    _tree, chunks = _chunks(tmp_path, markdown, 24)
+    assert counter_for(None).count(f"```\n{line}\n```") <= 24
+    assert any(line in c.text for c in chunks), [c.text for c in chunks]
