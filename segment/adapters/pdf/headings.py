@@ -159,6 +159,7 @@ def detect(items: list[Item], stats: FontStats) -> None:
             if pending_label:
                 item.level = 1
         pending_label = False
+    chosen = _without_terms(items, chosen, stats)
     if not chosen:
         return
     votes: dict[tuple[float, bool], Counter[int]] = {}
@@ -192,6 +193,28 @@ def detect(items: list[Item], stats: FontStats) -> None:
         style = style_of(item)
         item.level = min(depth + offset_of[style], 9) if depth is not None else level_of[style]
     _drop_empty(items)
+
+
+def _without_terms(items: list[Item], chosen: list[Item], stats: FontStats) -> list[Item]:
+    """Drop bold body-size lines whose following text is indented under them: the terms of a
+    definition list ("build (required)" over its explanation), not headings."""
+    position = {id(item): n for n, item in enumerate(items)}
+    kept: list[Item] = []
+    for item in chosen:
+        n = position[id(item)]
+        after = items[n + 1] if n + 1 < len(items) else None
+        larger = item.size >= stats.body_size + 0.9
+        if (
+            not larger
+            and item.level is None
+            and after is not None
+            and after.kind in ("text", "item", "code")
+            and after.first.page == item.first.page
+            and after.first.x0 > item.first.x0 + 8
+        ):
+            continue
+        kept.append(item)
+    return kept
 
 
 def _same_level_labelled(style: tuple[float, bool], chosen: list[Item]) -> bool:

@@ -8,6 +8,7 @@ is read top to bottom before the next.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from statistics import median
 
@@ -219,12 +220,19 @@ def _group(lines: list[Line], column: int) -> list[TextBlock]:
     return out
 
 
+_SECTION_NUMBER = re.compile(r"^\s*(\d{1,3}(\.\d{1,3})*|[A-Z](\.\d{1,3})+|[A-Z])\.?\s+\S")
+
+
 def _breaks(prev: Line, line: Line) -> bool:
     if line.block != prev.block:
         return True
     size = min(prev.size, line.size) or 1.0
     if line.y0 - prev.y1 > 0.7 * size:
         return True
+    if prev.bold > 0.9 and line.bold > 0.9 and abs(prev.size - line.size) <= 0.6:
+        # A heading set on two lines goes on (even through a code-font word), unless the new
+        # line starts a numbered heading of its own ("A Research Methods" / "A.1 Part One").
+        return bool(_SECTION_NUMBER.match(line.text))
     if (prev.mono >= 0.8) != (line.mono >= 0.8):
         # Code set apart from prose (indented or spaced); an inline code run that happens to
         # fill a wrapped line of a paragraph stays in the paragraph, whatever its type size.
