@@ -55,12 +55,13 @@ PDF_TOPICS = ("Battery", "Propeller", "Gimbal", "Firmware", "Landing", "Radio", 
 
 @cache
 def good_pdf(pages: int = 12) -> bytes:
-    """A plain text PDF (one heading line and a few sentences per page), no object streams."""
+    """A plain text PDF (one heading line and a few sentences per page), no object streams.
+    At most 12 pages: each has its own heading (repeated ones would read as running heads)."""
     doc = pymupdf.open()
     for n in range(1, pages + 1):
         page = doc.new_page()
-        page.insert_text((72, 72 + 9 * n), f"{PDF_TOPICS[n - 1]} checklist", fontsize=16)
-        y = 110
+        page.insert_text((72, 72 + 6 * (n % 4)), f"{PDF_TOPICS[n - 1]} checklist", fontsize=16)
+        y = 130
         for k in range(12):
             page.insert_text((72, y), f"Step {n}.{k}: {GOOD_TEXT} on page {n}.", fontsize=10)
             y += 16
