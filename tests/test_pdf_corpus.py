@@ -65,12 +65,16 @@ def headings(doc: Document) -> list[tuple[int, str, int]]:
     ]
 
 
-def score(found: list[tuple[int, str, int]], toc: list[tuple[int, str, int]]) -> tuple[int, int, int]:
-    """(true positives, found, outline entries): a found heading matches an unused entry whose
-    title is the same text (case, numbering and punctuation aside) on the same page +-1."""
+def score(
+    found: list[tuple[int, str, int]], toc: list[tuple[int, str, int]]
+) -> tuple[int, int, int, list[tuple[int, int]]]:
+    """(true positives, found, outline entries, (our level, outline level) of each match): a
+    found heading matches an unused entry whose title is the same text (case, numbering and
+    punctuation aside) on the same page +-1."""
     used: set[int] = set()
     hits = 0
-    for _, text, page in found:
+    pairs: list[tuple[int, int]] = []
+    for level, text, page in found:
         key = norm(text)
         best: tuple[float, int] | None = None
         for j, (_, title, tpage) in enumerate(toc):
@@ -82,7 +86,16 @@ def score(found: list[tuple[int, str, int]], toc: list[tuple[int, str, int]]) ->
         if best is not None:
             used.add(best[1])
             hits += 1
-    return hits, len(found), len(toc)
+            pairs.append((level, toc[best[1]][0]))
+    return hits, len(found), len(toc), pairs
+
+
+def level_agreement(pairs: list[tuple[int, int]]) -> float:
+    """Share of consecutive matched headings whose step (deeper, same, shallower) agrees with
+    the outline's: relative levels, since absolute numbers depend on where counting starts."""
+    steps = list(zip(pairs, pairs[1:]))
+    same = sum(1 for (a, ea), (b, eb) in steps if (b > a) - (b < a) == (eb > ea) - (eb < ea))
+    return same / len(steps) if steps else 1.0
 
 
 def f1(hits: int, found: int, expected: int) -> tuple[float, float, float]:
@@ -91,32 +104,35 @@ def f1(hits: int, found: int, expected: int) -> tuple[float, float, float]:
     return p, r, (2 * p * r / (p + r) if p + r else 0.0)
 
 
-# Measured 2026-12-02 with use_outline=False (precision / recall / F1):
-#   policy.pdf 0.782/0.932/0.851, debian-reference.en.pdf 0.957/0.993/0.975,
-#   R-intro.pdf 0.906/1.000/0.951, acmart-sample-sigconf.pdf 0.765/0.897/0.825,
-#   mnras_guide.pdf 0.833/1.000/0.909; overall 0.876/0.971/0.921.
-# The target is F1 >= 0.9 per file; the thresholds below are what the detector reliably
-# reaches. Most "false positives" are real headings the outline leaves out (Preface, Abstract,
-# KEYWORDS, definition terms, the paper's title and author block).
-PER_FILE_F1 = 0.8
-OVERALL_F1 = 0.9
+# Measured 2026-12-02 with use_outline=False (precision / recall / F1; level steps agreeing):
+#   policy.pdf 0.970/0.938/0.954 (0.997), debian-reference.en.pdf 0.955/0.989/0.972 (1.000),
+#   R-intro.pdf 0.906/1.000/0.951 (0.931), acmart-sample-sigconf.pdf 0.800/0.966/0.875 (1.000),
+#   mnras_guide.pdf 0.811/1.000/0.896 (0.931); overall 0.942/0.973/0.957.
+# Target: F1 >= 0.9 per file; the two short papers miss it (title-page author names and
+# affiliations in large type, ABSTRACT/KEYWORDS/REFERENCES headings the outline leaves out), so
+# the per-file threshold below is what the detector reliably reaches, and the overall one holds.
+PER_FILE_F1 = 0.85
+OVERALL_F1 = 0.93
+LEVEL_AGREEMENT = 0.9
 
 
 @pytest.mark.parametrize("name", WITH_OUTLINE)
 def test_font_headings_against_outline(corpus: dict[str, Parsed], name: str) -> None:
     parsed = corpus.get(name) or pytest.skip(f"{name} not in the corpus")
-    hits, found, expected = score(headings(parsed.fonts), parsed.toc)
+    hits, found, expected, pairs = score(headings(parsed.fonts), parsed.toc)
     p, r, f = f1(hits, found, expected)
-    print(f"{name}: precision {p:.3f} recall {r:.3f} F1 {f:.3f} ({hits}/{found} found, {expected} entries)")
+    agree = level_agreement(pairs)
+    print(f"{name}: precision {p:.3f} recall {r:.3f} F1 {f:.3f} levels {agree:.3f} ({hits}/{found}, {expected} entries)")
     assert parsed.fonts.metadata["headings_from"] == "fonts"
     assert f >= PER_FILE_F1
+    assert agree >= LEVEL_AGREEMENT
 
 
 def test_font_headings_overall(corpus: dict[str, Parsed]) -> None:
     totals = [0, 0, 0]
     for name in WITH_OUTLINE:
         if name in corpus:
-            for i, v in enumerate(score(headings(corpus[name].fonts), corpus[name].toc)):
+            for i, v in enumerate(score(headings(corpus[name].fonts), corpus[name].toc)[:3]):
                 totals[i] += v
     p, r, f = f1(*totals)
     print(f"overall: precision {p:.3f} recall {r:.3f} F1 {f:.3f} {totals}")
