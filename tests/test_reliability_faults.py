@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import errno
 import os
+import threading
 import time
 from collections.abc import Callable, Iterator
 from pathlib import Path
@@ -221,3 +222,98 @@ def test_a_write_error_while_watching_keeps_the_watcher_alive_and_is_retried(
         assert b"disk was full" in chunk_files(out)["area2/page2.md.jsonl"]
         assert w._thread is not None and w._thread.is_alive()
     fresh_equal(docs, out, tmp_path)
+
+
+# -- S2: the order of durable writes ---------------------------------------------------------------
+
+
+def test_each_chunk_file_is_fsynced_before_its_rename_and_its_folder_after(
+        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # RELIABILITY S2 (pytest cannot cut power): spy on the calls. POSIX atomic replace practice:
+    # write the temp file, fsync it, rename over the target, fsync the folder.
+    out = tmp_path / "out"
+    calls: list[tuple[str, str]] = []
+    lock = threading.Lock()
+    real_fsync, real_replace = os.fsync, os.replace
+
+    def where(fd: int) -> str:
+        try:
+            return os.readlink(f"/proc/self/fd/{fd}")
+        except OSError:
+            return "?"
+
+    def spy_fsync(fd: int) -> None:
+        with lock:
+            calls.append(("fsync", where(fd)))
+        real_fsync(fd)
+
+    def spy_replace(a: object, b: object) -> None:
+        with lock:
+            calls.append(("replace", f"{os.fsdecode(a)} -> {os.fsdecode(b)}"))  # type: ignore[arg-type]
+        real_replace(a, b)  # type: ignore[arg-type]
+
+    monkeypatch.setattr(os, "fsync", spy_fsync)
+    monkeypatch.setattr(os, "replace", spy_replace)
+    assert run_build(docs, out, Settings()) == 0
+    monkeypatch.undo()
+    renames = [(i, c[1]) for i, c in enumerate(calls) if c[0] == "replace" and "/chunks/" in c[1]]
+    assert len(renames) == 6
+    for i, what in renames:
+        tmp, dst = what.split(" -> ")
+        assert ("fsync", tmp) in calls[:i], f"{dst}: renamed before its temp file was fsynced"
+        folder = os.path.dirname(dst)
+        assert ("fsync", folder) in calls[i + 1:], f"{dst}: folder not fsynced after the rename"
+    feed_sync = max(i for i, c in enumerate(calls) if c == ("fsync", str(out / "changes.jsonl")))
+    assert feed_sync > max(i for i, _ in renames)  # chunk files are durable before the feed names them
+
+
+# -- S5: readers while the writer churns; S6: a store cut in half -----------------------------------
+
+
+@pytest.mark.timeout(90)
+def test_status_readers_never_see_a_locked_database_while_the_watcher_writes(docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY S5: one writer; readers are read-only with a busy timeout.
+    out = tmp_path / "out"
+    errors: list[BaseException] = []
+    reads = {"n": 0}
+    with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
+        stop = threading.Event()
+
+        def reader() -> None:
+            while not stop.is_set() and reads["n"] < 200:
+                try:
+                    assert read_status(out) is not None
+                    reads["n"] += 1
+                except BaseException as exc:  # noqa: BLE001 - collected and asserted below
+                    errors.append(exc)
+                    return
+
+        thread = threading.Thread(target=reader)
+        thread.start()
+        for i in range(60):
+            write(docs / "churn" / f"n{i % 15}.md", page(f"Pilot roles {i}"))
+            if i % 10 == 9:
+                w.sync(30)
+        w.sync(30)
+        wait_for(lambda: reads["n"] >= 200 or errors, timeout=60)
+        stop.set()
+        thread.join(10)
+    assert not errors, errors[0]
+    assert reads["n"] >= 200
+    fresh_equal(docs, out, tmp_path)
+
+
+@pytest.mark.timeout(60)
+def test_a_store_cut_to_half_its_size_is_rebuilt_by_reconcile(docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY S6, the truncation variant (garbage is covered in test_daemon_build).
+    out = tmp_path / "out"
+    reconcile(docs, out)
+    store = out / "state.sqlite3"
+    for side in ("-wal", "-shm"):
+        Path(str(store) + side).unlink(missing_ok=True)
+    data = store.read_bytes()
+    store.write_bytes(data[: len(data) // 2])
+    write(docs / "area1" / "page1.md", page("Flight logs", "Edited while the store was damaged."))
+    assert run_build(docs, out, Settings()) == 0
+    fresh_equal(docs, out, tmp_path)
+    assert read_status(out).counters.get("rebuilt_state") == 1  # type: ignore[union-attr]
