@@ -65,6 +65,10 @@ def run_build(src: Path, out: Path, settings: Settings, *, jobs: int = 1, full: 
     except (OutputBusy, SourceMissing, WorkerStartError) as exc:
         click.echo(f"Error: {exc}", err=True)
         return 1
+    except OSError as exc:  # disk full, I/O error: the store was not committed past the failure
+        click.echo(f"Error: cannot write the output: {exc}; nothing after the last commit was "
+                   "recorded, so running the build again redoes it", err=True)
+        return 1
     if failed is not None and failed.failed:
         for source, status, reason in failed.failed:
             click.echo(f"failed: {source}: {status}: {reason}", err=True)
@@ -103,6 +107,9 @@ def run_watch(src: Path, out: Path, settings: Settings, *, jobs: int = 1, quiet_
         return 130
     except (OutputBusy, SourceMissing, WorkerStartError) as exc:
         click.echo(f"Error: {exc}", err=True)
+        return 1
+    except OSError as exc:
+        click.echo(f"Error: cannot write the output: {exc}", err=True)
         return 1
     finally:
         for sig, handler in previous.items():

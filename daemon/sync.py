@@ -12,12 +12,13 @@ For a set of candidate paths (the whole tree, a folder, or the paths of a watch 
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import json
 import logging
 import os
 import time
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Generator, Iterable, Iterator
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -244,7 +245,8 @@ class Syncer:
         while to_parse:
             tasks = [Task(rel, str(self.scope.abs(rel)), display_name(rel)) for rel in to_parse]
             again: dict[str, StatSig] = {}
-            for outcome in self.pool.map(tasks, stop=self.stop_requested):
+            outcomes = self.pool.map(tasks, stop=self.stop_requested)
+            for outcome in closing_iter(outcomes):
                 rel = outcome.path
                 if outcome.pid:
                     report.parse_pids.add(outcome.pid)
@@ -420,6 +422,12 @@ class Syncer:
 
     def _ids_in_chunk_file(self, rel: str) -> list[str]:
         return _read_ids(self.chunk_path(rel))[0]
+
+
+def closing_iter(gen: Generator[Outcome, None, None]) -> Iterator[Outcome]:
+    """Iterate and always close the generator, so its cleanup runs before an error escapes."""
+    with contextlib.closing(gen):
+        yield from gen
 
 
 def _read_ids(path: Path) -> tuple[list[str], str]:

@@ -16,6 +16,7 @@ from __future__ import annotations
 import logging
 import os
 import queue
+import sqlite3
 import threading
 import time
 import uuid
@@ -37,6 +38,8 @@ log = logging.getLogger(__name__)
 
 RESCAN_S = 600.0
 """A full reconcile runs this often while watching, as a net under any missed event."""
+WRITE_RETRY_S = 5.0
+"""After a failed write (disk full, I/O error), the next full reconcile runs this much later."""
 OVERFLOW_LOGGER = "watchdog.observers.inotify_c"
 _IGNORED_TYPES = frozenset({"opened", "closed_no_write"})
 
@@ -167,7 +170,7 @@ class WatchLoop:
             if self.observer.is_alive():
                 self.observer.join(5)
             self.observer = None
-        self._set_meta(degraded="")
+        self._set_degraded("")
 
     def _start_observer(self) -> None:
         src = str(self.syncer.src)
@@ -186,8 +189,7 @@ class WatchLoop:
             log.warning("watching %s by polling: raise fs.inotify.max_user_watches "
                         "(sysctl) to get instant updates", src)
         self.observer = observer
-        self.degraded = "watch_limit" if polling else ""
-        self._set_meta(degraded=self.degraded)
+        self._set_degraded("watch_limit" if polling else "", force=True)
 
     # -- the loop --------------------------------------------------------------------------
 
@@ -211,8 +213,17 @@ class WatchLoop:
         except SourceMissing as exc:
             if self.degraded != "root_missing":
                 log.error("%s; paused until it is back", exc)
-            self.degraded = "root_missing"
-            self._set_meta(degraded=self.degraded)
+            self._set_degraded("root_missing")
+        except OSError as exc:
+            # Disk full or an I/O error: nothing past the last commit was recorded. Retry the
+            # whole tree in a few seconds (never trust a failed fsync: RELIABILITY S3).
+            log.error("cannot write the output: %s; retrying with a full reconcile", exc)
+            self._set_degraded("write_error")
+            self._last_full = self.clock() - self.rescan_s + WRITE_RETRY_S
+            return  # the barriers wait for the retry
+        else:
+            if self.degraded == "write_error" and batch.full:
+                self._set_degraded("")
         self._release(batch.cookies)
 
     def _full(self, what: str) -> SyncReport:
@@ -230,8 +241,7 @@ class WatchLoop:
             if self.degraded != "root_missing":
                 log.error("%s: source folder is missing; paused until it is back (output kept)",
                           self.syncer.src)
-                self.degraded = "root_missing"
-                self._set_meta(degraded=self.degraded)
+                self._set_degraded("root_missing")
             return ()
         if self.degraded == "root_missing":
             log.warning("%s is back; resuming", self.syncer.src)
@@ -263,8 +273,7 @@ class WatchLoop:
         except OSError as exc:  # e.g. the root vanished again: the next idle check retries
             log.error("cannot restart the file watcher on %s: %s", self.syncer.src, exc)
             self.observer = None
-            self.degraded = "root_missing" if not self.syncer.src.is_dir() else "watch_failed"
-            self._set_meta(degraded=self.degraded)
+            self._set_degraded("root_missing" if not self.syncer.src.is_dir() else "watch_failed")
 
     # -- barrier ---------------------------------------------------------------------------
 
@@ -307,10 +316,16 @@ class WatchLoop:
         with self.syncer.store.transaction():
             self.syncer.store.bump(key)
 
-    def _set_meta(self, **values: object) -> None:
-        with self.syncer.store.transaction():
-            for key, value in values.items():
-                self.syncer.store.set_meta(key, value)
+    def _set_degraded(self, value: str, force: bool = False) -> None:
+        """Record why the output may lag (shown by `segment status`); written only on change."""
+        if value == self.degraded and not force:
+            return
+        self.degraded = value
+        try:
+            with self.syncer.store.transaction():
+                self.syncer.store.set_meta("degraded", value)
+        except (OSError, sqlite3.Error) as exc:
+            log.error("cannot record the degraded state %r: %s", value, exc)
 
 
 class Watcher:

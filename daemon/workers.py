@@ -20,7 +20,7 @@ import os
 import signal
 import time
 from collections import deque
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Generator, Iterable
 from dataclasses import dataclass, field
 from multiprocessing.connection import Connection
 from typing import Any
@@ -242,7 +242,8 @@ class WorkerPool:
         worker.conn.close()
         self._workers.remove(worker)
 
-    def map(self, tasks: Iterable[Task], stop: Callable[[], bool] | None = None) -> Iterator[Outcome]:
+    def map(self, tasks: Iterable[Task], stop: Callable[[], bool] | None = None,
+            ) -> Generator[Outcome, None, None]:
         """Run tasks, yielding one outcome per task as they finish (in no fixed order).
 
         Once `stop()` is true no new task starts; tasks in progress still finish and the
@@ -253,36 +254,43 @@ class WorkerPool:
             return
         while len(self._workers) < min(self.jobs, len(pending)):
             self._spawn()
-        while pending or any(w.task for w in self._workers):
-            if stop is not None and pending and stop():
-                pending.clear()
-                continue
-            for worker in self._workers:
-                if worker.ready and worker.task is None and pending:
-                    worker.task = pending.popleft()
-                    worker.deadline = time.monotonic() + self.settings.timeout_s
-                    worker.conn.send(worker.task)
-            busy = [w for w in self._workers if w.task is not None]
-            deadline = min((w.deadline for w in busy), default=time.monotonic() + 1.0)
-            waitables: list[Any] = [w.conn for w in self._workers] + [w.proc.sentinel for w in self._workers]
-            ready = multiprocessing.connection.wait(waitables, max(0.0, deadline - time.monotonic()))
+        try:
+            while pending or any(w.task for w in self._workers):
+                if stop is not None and pending and stop():
+                    pending.clear()
+                    continue
+                for worker in self._workers:
+                    if worker.ready and worker.task is None and pending:
+                        worker.task = pending.popleft()
+                        worker.deadline = time.monotonic() + self.settings.timeout_s
+                        worker.conn.send(worker.task)
+                busy = [w for w in self._workers if w.task is not None]
+                deadline = min((w.deadline for w in busy), default=time.monotonic() + 1.0)
+                waitables: list[Any] = [w.conn for w in self._workers] + [w.proc.sentinel for w in self._workers]
+                ready = multiprocessing.connection.wait(waitables, max(0.0, deadline - time.monotonic()))
+                for worker in list(self._workers):
+                    if worker.conn in ready or worker.proc.sentinel in ready:
+                        outcome = self._receive(worker)
+                        if outcome is not None:
+                            yield outcome
+                now = time.monotonic()
+                for worker in list(self._workers):
+                    if worker.task is not None and now >= worker.deadline:
+                        task = worker.task
+                        self._discard(worker, kill=True)
+                        self.replaced += 1
+                        log.warning("%s: timeout after %g s; worker killed", task.source, self.settings.timeout_s)
+                        yield Outcome(task.path, "timeout",
+                                      f"parse took longer than timeout_s={self.settings.timeout_s:g}; worker killed")
+                busy_now = sum(1 for w in self._workers if w.task is not None)
+                while len(self._workers) < min(self.jobs, len(pending) + busy_now):
+                    self._spawn()
+        finally:
+            # Left early (an error in the caller, or a close): a worker still busy with a task
+            # of this call would answer into the next call, so it is replaced.
             for worker in list(self._workers):
-                if worker.conn in ready or worker.proc.sentinel in ready:
-                    outcome = self._receive(worker)
-                    if outcome is not None:
-                        yield outcome
-            now = time.monotonic()
-            for worker in list(self._workers):
-                if worker.task is not None and now >= worker.deadline:
-                    task = worker.task
+                if worker.task is not None:
                     self._discard(worker, kill=True)
-                    self.replaced += 1
-                    log.warning("%s: timeout after %g s; worker killed", task.source, self.settings.timeout_s)
-                    yield Outcome(task.path, "timeout",
-                                  f"parse took longer than timeout_s={self.settings.timeout_s:g}; worker killed")
-            busy_now = sum(1 for w in self._workers if w.task is not None)
-            while len(self._workers) < min(self.jobs, len(pending) + busy_now):
-                self._spawn()
 
     def _receive(self, worker: _Worker) -> Outcome | None:
         try:

@@ -249,3 +249,32 @@ def test_a_stop_request_commits_what_is_done_and_the_next_pass_does_the_rest(src
     assert "left for the next run" in report.line("build")
     assert_feed_matches(out)
     assert reconcile(src, out).parsed == report.interrupted
+
+
+def test_a_failed_fsync_commits_nothing_keeps_old_chunks_and_the_next_build_converges(
+        src: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]) -> None:
+    # RELIABILITY S3: never retry a failed fsync and mark the output committed.
+    import errno
+
+    out = tmp_path / "out"
+    reconcile(src, out)
+    before, seq = chunk_files(out), read_status(out).last_seq  # type: ignore[union-attr]
+    write(src / "area0" / "page0.md", page("Battery care", "Rotate packs every month."))
+    real_fsync, calls = os.fsync, []
+
+    def failing_fsync(fd: int) -> None:
+        calls.append(fd)
+        if len(calls) == 1:
+            raise OSError(errno.EIO, "Input/output error")
+        real_fsync(fd)
+
+    monkeypatch.setattr(os, "fsync", failing_fsync)
+    assert run_build(src, out, Settings()) == 1
+    assert "Input/output error" in capsys.readouterr().err
+    monkeypatch.setattr(os, "fsync", real_fsync)
+    assert chunk_files(out) == before  # the old chunk file is intact, no temp file left
+    assert not list(out.rglob("*.tmp"))
+    assert read_status(out).last_seq == seq  # type: ignore[union-attr]
+    assert run_build(src, out, Settings()) == 0
+    assert b"Rotate packs" in chunk_files(out)["area0/page0.md.jsonl"]
+    assert_feed_matches(out)

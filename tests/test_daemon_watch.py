@@ -276,3 +276,42 @@ def test_a_vanished_source_folder_pauses_the_watcher_and_keeps_the_output(docs: 
         wait_for(lambda: w.loop.degraded == "")  # type: ignore[union-attr]
         w.sync(10)
     assert_matches_fresh_build(docs, out, tmp_path)
+
+
+def test_a_write_error_while_watching_is_retried_by_a_full_reconcile(
+        watcher: Watcher, docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # RELIABILITY S4: ENOSPC while writing: old output kept, state `write_error`, then recovery.
+    import errno
+
+    import daemon.sync
+    import daemon.watch
+
+    monkeypatch.setattr(daemon.watch, "WRITE_RETRY_S", 0.2)
+    real, calls = daemon.sync.write_if_changed, []
+
+    def disk_full(path: Path, data: bytes) -> None:
+        calls.append(path)
+        if len(calls) == 1:
+            raise OSError(errno.ENOSPC, "No space left on device")
+        real(path, data)
+
+    monkeypatch.setattr(daemon.sync, "write_if_changed", disk_full)
+    write(docs / "area0" / "page0.md", page("Spare parts", "Keep four spare rotors."))
+    watcher.sync(20)  # released by the retry's full reconcile
+    assert b"four spare rotors" in chunk_files(tmp_path / "out")["area0/page0.md.jsonl"]
+    assert watcher.loop is not None and watcher.loop.degraded == ""
+    assert_feed_matches(tmp_path / "out")
+
+
+def test_too_many_folders_for_inotify_fall_back_to_polling_and_say_so(
+        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # RELIABILITY W2, portable variant: the watch budget check says "too many folders".
+    import daemon.watch
+
+    monkeypatch.setattr(daemon.watch, "watch_limit_exceeded", lambda src: True)
+    out = tmp_path / "out"
+    with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
+        assert read_status(out).degraded == "watch_limit"  # type: ignore[union-attr]
+        write(docs / "polled.md", page("Geofences", "Seen by polling."))
+        w.sync(20)
+        assert "polled.md.jsonl" in chunk_files(out)
