@@ -46,6 +46,11 @@ class Batch:
         return bool(self.files or self.folders or self.full or self.cookies)
 
 
+MAX_PATHS = 5000
+"""More distinct paths than this in one batch become one full reconcile (a scan is cheaper
+than a storm of hints, and memory stays bounded; syncthing does the same above 512 events)."""
+
+
 class Coalescer:
     """Collects changes and says when they have settled.
 
@@ -80,6 +85,10 @@ class Coalescer:
             self._cookies[change.path] = None
         elif change.kind == "full":
             self._full = True
+        if self._full or len(self._files) + len(self._folders) > MAX_PATHS:
+            self._full = True
+            self._files.clear()
+            self._folders.clear()
 
     def due_in(self, now: float) -> float | None:
         """Seconds until the pending batch is due (0 when due now); None when nothing is pending."""

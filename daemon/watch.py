@@ -134,6 +134,35 @@ def watch_limit_exceeded(src: Path) -> bool:
     return False
 
 
+NETWORK_FS = ("nfs", "nfs4", "cifs", "smb3", "smbfs", "9p", "afs", "ceph", "glusterfs", "lustre")
+
+
+def fs_type(path: Path) -> str:
+    """File system type of the mount holding `path` (from /proc/self/mountinfo; "" if unknown)."""
+    try:
+        lines = Path("/proc/self/mountinfo").read_text().splitlines()
+    except OSError:
+        return ""
+    target = os.path.realpath(path)
+    best, kind = "", ""
+    for line in lines:
+        left, _, right = line.partition(" - ")
+        fields = left.split()
+        if len(fields) < 5 or not right:
+            continue
+        mount = fields[4].replace("\\040", " ")
+        inside = target == mount or target.startswith(mount.rstrip("/") + "/")
+        if inside and len(mount) >= len(best):
+            best, kind = mount, right.split()[0]
+    return kind
+
+
+def needs_polling(path: Path) -> bool:
+    """True on file systems where inotify misses other hosts' writes (RELIABILITY W12)."""
+    kind = fs_type(path)
+    return kind in NETWORK_FS or kind.startswith("fuse.")
+
+
 class WatchLoop:
     """Runs the observer and the batch loop around one `Syncer`."""
 
@@ -174,22 +203,27 @@ class WatchLoop:
 
     def _start_observer(self) -> None:
         src = str(self.syncer.src)
-        polling = watch_limit_exceeded(self.syncer.src)
+        reason = ("network_fs" if needs_polling(self.syncer.src)
+                  else "watch_limit" if watch_limit_exceeded(self.syncer.src) else "")
+        polling = bool(reason)
         observer: Any = PollingObserver(timeout=1.0) if polling else Observer()
         try:
             observer.schedule(_Enqueue(self.events), src, recursive=True)
             observer.start()
         except OSError as exc:
             log.warning("cannot watch %s with inotify (%s); falling back to polling", src, exc)
-            polling = True
+            polling, reason = True, "watch_limit"
             observer = PollingObserver(timeout=1.0)
             observer.schedule(_Enqueue(self.events), src, recursive=True)
             observer.start()
-        if polling:
+        if reason == "network_fs":
+            log.warning("%s is on a network file system (%s): watching by polling", src,
+                        fs_type(self.syncer.src))
+        elif polling:
             log.warning("watching %s by polling: raise fs.inotify.max_user_watches "
                         "(sysctl) to get instant updates", src)
         self.observer = observer
-        self._set_degraded("watch_limit" if polling else "", force=True)
+        self._set_degraded(reason, force=True)
 
     # -- the loop --------------------------------------------------------------------------
 

@@ -89,12 +89,18 @@ def test_stop_flushes_what_is_pending_at_once() -> None:
     assert got[0][0] < 6.0
 
 
-def test_a_rescanned_folder_absorbs_files_below_it_and_a_full_request_is_kept() -> None:
+def test_a_rescanned_folder_absorbs_files_below_it() -> None:
     got = run([(1.0, f("docs/a.md")), (1.0, [Change("folder", "docs")]), (1.1, f("other.md")),
-               (1.1, [FULL]), (1.1, [Change("cookie", "tok")])])
+               (1.1, [Change("cookie", "tok")])])
     batch = got[0][1]
     assert batch.files == ["other.md"] and batch.folders == ["docs"]
-    assert batch.full and batch.cookies == ["tok"]
+    assert not batch.full and batch.cookies == ["tok"]
+
+
+def test_a_full_request_covers_every_path_and_keeps_the_barriers() -> None:
+    got = run([(1.0, f("docs/a.md")), (1.1, [FULL]), (1.1, f("late.md")), (1.1, [Change("cookie", "tok")])])
+    batch = got[0][1]
+    assert batch.full and batch.files == [] and batch.folders == [] and batch.cookies == ["tok"]
 
 
 def test_idle_supervision_runs_between_batches_and_its_requests_are_batched() -> None:
@@ -150,3 +156,12 @@ def test_content_events_and_folder_events_map_to_file_and_folder_hints(tmp_path:
         Change("folder", "a"), Change("folder", "b/c")]
     assert changes_of(FileCreatedEvent(f"{src}/.docsegment-cookie-abc"), s) == [Change("cookie", "abc")]
     assert changes_of(FileCreatedEvent(str(tmp_path / "elsewhere.md")), s) == []
+
+
+def test_a_storm_of_distinct_paths_becomes_one_full_reconcile() -> None:
+    import daemon.batching
+
+    events = [(1.0 + i * 1e-4, f(f"storm/p{i}.md")) for i in range(daemon.batching.MAX_PATHS + 1)]
+    got = run(events)
+    assert len(got) == 1
+    assert got[0][1].full and got[0][1].files == []

@@ -315,3 +315,21 @@ def test_too_many_folders_for_inotify_fall_back_to_polling_and_say_so(
         write(docs / "polled.md", page("Geofences", "Seen by polling."))
         w.sync(20)
         assert "polled.md.jsonl" in chunk_files(out)
+
+
+def test_a_network_file_system_is_watched_by_polling(docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # RELIABILITY W12: inotify does not see other hosts' writes on NFS/CIFS; poll instead.
+    import daemon.watch
+    from watchdog.observers.polling import PollingObserver
+
+    assert daemon.watch.fs_type(tmp_path) != ""  # read from /proc/self/mountinfo
+    monkeypatch.setattr(daemon.watch, "fs_type", lambda path: "nfs4")
+    out = tmp_path / "out"
+    with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
+        assert isinstance(w.loop.observer, PollingObserver)  # type: ignore[union-attr]
+        assert read_status(out).degraded == "network_fs"  # type: ignore[union-attr]
+        tmp = docs / ".page.md.tmp9"
+        write(tmp, page("Flight logs", "Saved over the network."))
+        os.replace(tmp, docs / "area0" / "page0.md")
+        w.sync(20)
+        assert b"over the network" in chunk_files(out)["area0/page0.md.jsonl"]
