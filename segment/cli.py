@@ -43,8 +43,6 @@ def settings_options(fn: F) -> F:
 def _settings(src: Path | None, kwargs: dict[str, Any]) -> Settings:
     keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", "include", "exclude")
     overrides = {k: kwargs.get(k) for k in keys}
-    if overrides.get("exclude"):
-        overrides["exclude"] = Settings().exclude + tuple(overrides["exclude"])
     try:
         return load_settings(src, overrides)
     except SettingsError as exc:

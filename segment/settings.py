@@ -93,13 +93,19 @@ def load_settings(src: Path | None = None, overrides: dict[str, Any] | None = No
     """Defaults, then `segment.toml` in `src` (if a folder holding one), then `overrides`.
 
     Overrides whose value is None are ignored, so unset command-line flags leave the file's value.
+    `exclude` patterns from the file and the overrides are added to the default exclusions.
     """
     values: dict[str, Any] = {}
     if src is not None and src.is_dir() and (src / CONFIG_NAME).is_file():
         values.update(_read_toml(src / CONFIG_NAME))
+    extra_exclude = tuple(values.pop("exclude", ()))
     for key, value in (overrides or {}).items():
-        if value is not None and value != ():
+        if key == "exclude":
+            extra_exclude += tuple(value or ())
+        elif value is not None and value != ():
             values[key] = value
+    # Exclusions add to the defaults (secrets stay out); `!pattern` re-includes, gitignore-style.
+    values["exclude"] = DEFAULT_EXCLUDE + extra_exclude
     return coerce(values, origin="settings")
 
 

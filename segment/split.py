@@ -117,10 +117,11 @@ class Splitter:
     def _item_units(self, block: ListBlock, index: int, room: int) -> list[_Unit]:
         """An over-budget list item cut along its own blocks; the marker leads, the rest indented."""
         marker = item_marker(block, index)
-        inner = max(room - self.count(marker), 1)
         units: list[_Unit] = []
         for b in block.items[index].blocks:
-            for part in self.split(b, inner, inner):
+            # Only the first part carries the marker; later parts are merely indented.
+            first = max(room - self.count(marker), 1) if not units else room
+            for part in self.split(b, first, room):
                 lead = marker if not units else " " * len(marker)
                 units.append(_Unit(_indent(part.text, lead, " " * len(marker)), part.span))
         return units

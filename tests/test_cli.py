@@ -57,7 +57,9 @@ def test_segment_toml_in_the_source_root_is_read(tmp_path: Path) -> None:
 
     (tmp_path / "segment.toml").write_text('max_tokens = 128\nexclude = ["drafts/"]\n')
     settings = load_settings(tmp_path, {"min_tokens": 8, "max_tokens": None})
-    assert settings.max_tokens == 128 and settings.min_tokens == 8 and settings.exclude == ("drafts/",)
+    assert settings.max_tokens == 128 and settings.min_tokens == 8
+    # Exclusions add to the defaults: files that usually hold secrets stay out.
+    assert settings.exclude[-1] == "drafts/" and ".env" in settings.exclude
 
 
 def test_unknown_setting_names_the_file(tmp_path: Path) -> None:
