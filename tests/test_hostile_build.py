@@ -145,14 +145,23 @@ def test_nothing_outside_the_root_is_read_and_output_stays_inside_out(built: Bui
 
 
 @pytest.mark.timeout(BUILD_TIMEOUT + 60)
-def test_an_unchanged_second_build_parses_none_of_the_bad_files_again(built: Built) -> None:
-    # Permanent failures (corrupt, encrypted, empty) are not retried until the file changes.
-    done = run(["build", str(built.src), "-o", str(built.out)], hostile.drop_capabilities_prefix())
-    assert done.returncode == 1 and "Traceback" not in done.stderr
-    line = next(ln for ln in done.stderr.splitlines() if "build:" in ln)
-    # Only the unreadable file (a transient status, retried until quarantined) is tried again.
-    assert f"re-segmented 0 files" in line, line
-    assert line.count("failed") <= 1, line
+def test_unchanged_rebuilds_parse_no_bad_file_again_and_a_transient_failure_is_quarantined(built: Built) -> None:
+    # Permanent failures (corrupt, encrypted, empty) are not retried until the file changes;
+    # a transient one (unreadable) is retried until it failed 3 times, then quarantined.
+    prefix = hostile.drop_capabilities_prefix()
+    lines = []
+    for _ in range(3):
+        done = run(["build", str(built.src), "-o", str(built.out)], prefix)
+        assert done.returncode == 1 and "Traceback" not in done.stderr
+        lines.append(next(ln for ln in done.stderr.splitlines() if "build:" in ln))
+    assert all("re-segmented 0 files" in line for line in lines), lines
+    if built.locked:
+        assert ["1 failed" in line for line in lines] == [True, True, False], lines  # tries 2, 3, then none
+        status = json.loads(run(["status", str(built.out), "--json"]).stdout)
+        reason = next(f["reason"] for f in status["failed"] if f["source"] == built.locked)
+        assert "quarantined until the file changes" in reason
+    else:
+        assert not any("failed" in line for line in lines), lines
 
 
 # -- a good file turning bad -----------------------------------------------------------------
