@@ -12,7 +12,6 @@ from __future__ import annotations
 import argparse
 import os
 import shutil
-import statistics
 import tempfile
 import time
 from pathlib import Path

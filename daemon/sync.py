@@ -13,8 +13,6 @@ For a set of candidate paths (the whole tree, a folder, or the paths of a watch 
 from __future__ import annotations
 
 import contextlib
-import hashlib
-import json
 import logging
 import os
 import time
@@ -25,16 +23,17 @@ from pathlib import Path
 
 from segment.settings import Settings
 
+from daemon.chunkfiles import CHUNKS_DIR, chunk_name, read_ids
 from daemon.durable import crashpoint, fsync_dir, remove_temps, write_if_changed
 from daemon.feed import Feed, FeedEntry, compensation, diff_ids
 from daemon.lock import OutputLock
+from daemon.report import SyncReport
 from daemon.scope import Scope, display_name
 from daemon.store import FileState, StatSig, Store
 from daemon.workers import Outcome, Task, WorkerPool, content_hash
 
 log = logging.getLogger(__name__)
 
-CHUNKS_DIR = "chunks"
 GROUP_FILES = int(os.environ.get("DOCSEGMENT_GROUP_FILES", "200"))
 """Results per store transaction during a long reconcile (bounds the work a crash redoes)."""
 GROUP_SECONDS = 2.0
@@ -47,55 +46,6 @@ TRANSIENT = frozenset({"timeout", "crashed", "resource_limit", "error", "unreada
 
 Progress = Callable[[int, int], None]
 """Called with (files done, files to parse) while a reconcile parses."""
-
-
-@dataclass(slots=True)
-class SyncReport:
-    """What one reconcile pass did."""
-
-    scanned: int = 0
-    """Files looked at (on disk or in the store)."""
-    parsed: int = 0
-    """Files re-segmented successfully."""
-    unchanged: int = 0
-    deleted: int = 0
-    failed: list[tuple[str, str, str]] = field(default_factory=list)
-    """(source, status, reason) of files that failed in this pass."""
-    added: int = 0
-    """Chunk ids announced as upserts."""
-    removed: int = 0
-    """Chunk ids announced as deletes."""
-    skipped: list[str] = field(default_factory=list)
-    """Sources that kept changing during their parse (left for the next pass)."""
-    last_seq: int = 0
-    ms: float = 0.0
-    parse_pids: set[int] = field(default_factory=set)
-    """Processes that parsed files (never the daemon's own pid)."""
-    interrupted: int = 0
-    """Files left for the next pass because a stop was requested."""
-
-    def line(self, what: str) -> str:
-        """The one log line for this pass."""
-        failed = f", {len(self.failed)} failed" if self.failed else ""
-        skipped = f", {len(self.skipped)} still changing" if self.skipped else ""
-        skipped += f", {self.interrupted} left for the next run (stopped)" if self.interrupted else ""
-        return (
-            f"{what}: {self.scanned} files, re-segmented {self.parsed} files, deleted {self.deleted}"
-            f"{failed}{skipped}; chunks +{self.added} -{self.removed}; {self.ms:.0f} ms"
-        )
-
-    def merge(self, other: SyncReport) -> None:
-        """Add another pass's counts to this one."""
-        self.scanned += other.scanned
-        self.parsed += other.parsed
-        self.unchanged += other.unchanged
-        self.deleted += other.deleted
-        self.failed += other.failed
-        self.added += other.added
-        self.removed += other.removed
-        self.skipped += other.skipped
-        self.last_seq = max(self.last_seq, other.last_seq)
-        self.parse_pids |= other.parse_pids
 
 
 class Syncer:
@@ -380,7 +330,7 @@ class Syncer:
         report = SyncReport()
         self._group = _Group()
         for path in sorted(orphans):
-            ids, source = _read_ids(path)
+            ids, source = read_ids(path)
             self._unlink_chunk_file(path)
             self._group.entries += [FeedEntry("delete", source, id=i) for i in dict.fromkeys(ids)]
         self._group.gone.clear()  # no rows to drop
@@ -421,43 +371,13 @@ class Syncer:
         return self.chunks / folder / chunk_name(name) if folder else self.chunks / chunk_name(name)
 
     def _ids_in_chunk_file(self, rel: str) -> list[str]:
-        return _read_ids(self.chunk_path(rel))[0]
+        return read_ids(self.chunk_path(rel))[0]
 
 
 def closing_iter(gen: Generator[Outcome, None, None]) -> Iterator[Outcome]:
     """Iterate and always close the generator, so its cleanup runs before an error escapes."""
     with contextlib.closing(gen):
         yield from gen
-
-
-def _read_ids(path: Path) -> tuple[list[str], str]:
-    """Chunk ids in a chunk file, and the source its records name ("" when unreadable)."""
-    ids: list[str] = []
-    source = ""
-    try:
-        with open(path, "rb") as fh:
-            for line in fh:
-                if line.strip():
-                    record = json.loads(line)
-                    ids.append(record["id"])
-                    source = source or record["source"]
-    except (OSError, ValueError, KeyError, TypeError):
-        pass
-    return ids, source
-
-
-NAME_MAX = 255
-
-
-def chunk_name(name: str) -> str:
-    """`<name>.jsonl`, or, when that is over the 255-byte name limit, a shortened name plus a
-    hash of the full name (the records inside still carry the full source path)."""
-    full = name + ".jsonl"
-    if len(os.fsencode(full)) <= NAME_MAX:
-        return full
-    digest = hashlib.blake2b(os.fsencode(name), digest_size=8).hexdigest()
-    head = os.fsencode(name)[:200].decode("utf-8", "ignore")
-    return f"{head}~{digest}.jsonl"
 
 
 class SourceMissing(RuntimeError):

@@ -24,14 +24,23 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
-from watchdog.events import FileSystemEvent, FileSystemEventHandler
+from watchdog.events import FileSystemEvent
 from watchdog.observers import Observer
 from watchdog.observers.polling import PollingObserver
 
 from segment.settings import Settings
 
 from daemon.batching import FULL, Batch, Change, batches
-from daemon.scope import COOKIE_PREFIX, Scope, is_litter
+from daemon.events import (
+    OVERFLOW_LOGGER,
+    EnqueueHandler,
+    OverflowAlarm,
+    QueueSource,
+    fs_type,
+    needs_polling,
+    watch_limit_exceeded,
+)
+from daemon.scope import COOKIE_PREFIX
 from daemon.sync import SourceMissing, SyncReport, Syncer
 
 log = logging.getLogger(__name__)
@@ -40,129 +49,6 @@ RESCAN_S = 600.0
 """A full reconcile runs this often while watching, as a net under any missed event."""
 WRITE_RETRY_S = 5.0
 """After a failed write (disk full, I/O error), the next full reconcile runs this much later."""
-OVERFLOW_LOGGER = "watchdog.observers.inotify_c"
-_IGNORED_TYPES = frozenset({"opened", "closed_no_write"})
-
-
-class _Enqueue(FileSystemEventHandler):
-    """The observer's only handler: put the raw event on a queue; never raise."""
-
-    def __init__(self, events: queue.Queue[FileSystemEvent | Change]) -> None:
-        self.events = events
-
-    def dispatch(self, event: FileSystemEvent) -> None:
-        try:
-            self.events.put_nowait(event)
-        except Exception:  # noqa: BLE001 - an exception here would kill the observer thread
-            pass
-
-
-class _OverflowAlarm(logging.Handler):
-    """Turns watchdog's 'queue overflowed' log line into a full-reconcile request (W1)."""
-
-    def __init__(self, events: queue.Queue[FileSystemEvent | Change]) -> None:
-        super().__init__(logging.WARNING)
-        self.events = events
-        self.count = 0
-
-    def emit(self, record: logging.LogRecord) -> None:
-        if "overflow" in record.getMessage().lower():
-            self.count += 1
-            self.events.put_nowait(FULL)
-
-
-def changes_of(event: FileSystemEvent, scope: Scope) -> list[Change]:
-    """Path hints of one watchdog event (routed by both src_path and dest_path)."""
-    if event.event_type in _IGNORED_TYPES:
-        return []
-    out: list[Change] = []
-    for raw in (event.src_path, getattr(event, "dest_path", "")):
-        if not raw:
-            continue
-        rel = scope.rel(raw)
-        if not rel or scope.in_out(rel):
-            continue
-        name = rel.rsplit("/", 1)[-1]
-        if "/" not in rel and name.startswith(COOKIE_PREFIX):
-            out.append(Change("cookie", name[len(COOKIE_PREFIX):]))
-        elif event.is_directory:
-            if event.event_type != "modified" and event.event_type != "attrib":
-                out.append(Change("folder", rel))
-        elif not is_litter(name) and scope.file_wanted(rel):
-            out.append(Change("file", rel))
-    return out
-
-
-class _QueueSource:
-    """The live event source for `batches()`."""
-
-    def __init__(self, events: queue.Queue[FileSystemEvent | Change], scope: Scope) -> None:
-        self.events = events
-        self.scope = scope
-
-    def get(self, timeout: float) -> Sequence[Change] | None:
-        try:
-            item = self.events.get(timeout=timeout)
-        except queue.Empty:
-            return None
-        if isinstance(item, Change):
-            return [item]
-        try:
-            return changes_of(item, self.scope)
-        except Exception:  # noqa: BLE001 - a strange event means: look everywhere
-            log.exception("could not read a file-system event; running a full reconcile")
-            return [FULL]
-
-
-def watch_limit_exceeded(src: Path) -> bool:
-    """True when SRC has more folders than inotify may watch (W2; watchdog is silent then)."""
-    try:
-        limit = int(Path("/proc/sys/fs/inotify/max_user_watches").read_text().strip())
-    except (OSError, ValueError):
-        return False
-    folders = 0
-    stack = [str(src)]
-    while stack:
-        folder = stack.pop()
-        folders += 1
-        if folders > limit * 0.9:
-            return True
-        try:
-            stack += [e.path for e in os.scandir(folder) if e.is_dir(follow_symlinks=False)]
-        except OSError:
-            continue
-    return False
-
-
-NETWORK_FS = ("nfs", "nfs4", "cifs", "smb3", "smbfs", "9p", "afs", "ceph", "glusterfs", "lustre")
-
-
-def fs_type(path: Path) -> str:
-    """File system type of the mount holding `path` (from /proc/self/mountinfo; "" if unknown)."""
-    try:
-        lines = Path("/proc/self/mountinfo").read_text().splitlines()
-    except OSError:
-        return ""
-    target = os.path.realpath(path)
-    best, kind = "", ""
-    for line in lines:
-        left, _, right = line.partition(" - ")
-        fields = left.split()
-        if len(fields) < 5 or not right:
-            continue
-        mount = fields[4].replace("\\040", " ")
-        inside = target == mount or target.startswith(mount.rstrip("/") + "/")
-        if inside and len(mount) >= len(best):
-            best, kind = mount, right.split()[0]
-    return kind
-
-
-def needs_polling(path: Path) -> bool:
-    """True on file systems where inotify misses other hosts' writes (RELIABILITY W12)."""
-    kind = fs_type(path)
-    return kind in NETWORK_FS or kind.startswith("fuse.")
-
-
 class WatchLoop:
     """Runs the observer and the batch loop around one `Syncer`."""
 
@@ -173,7 +59,7 @@ class WatchLoop:
         self.rescan_s = rescan_s
         self.clock = clock
         self.events: queue.Queue[FileSystemEvent | Change] = queue.Queue()
-        self.alarm = _OverflowAlarm(self.events)
+        self.alarm = OverflowAlarm(self.events)
         self.observer: Any = None
         self.degraded = ""
         self.report = SyncReport()
@@ -208,13 +94,13 @@ class WatchLoop:
         polling = bool(reason)
         observer: Any = PollingObserver(timeout=1.0) if polling else Observer()
         try:
-            observer.schedule(_Enqueue(self.events), src, recursive=True)
+            observer.schedule(EnqueueHandler(self.events), src, recursive=True)
             observer.start()
         except OSError as exc:
             log.warning("cannot watch %s with inotify (%s); falling back to polling", src, exc)
             polling, reason = True, "watch_limit"
             observer = PollingObserver(timeout=1.0)
-            observer.schedule(_Enqueue(self.events), src, recursive=True)
+            observer.schedule(EnqueueHandler(self.events), src, recursive=True)
             observer.start()
         if reason == "network_fs":
             log.warning("%s is on a network file system (%s): watching by polling", src,
@@ -229,7 +115,7 @@ class WatchLoop:
 
     def run(self, stop: Callable[[], bool]) -> None:
         """Process batches until `stop()` is true; the batch in progress is always finished."""
-        source = _QueueSource(self.events, self.syncer.scope)
+        source = QueueSource(self.events, self.syncer.scope)
         max_wait = max(10 * self.quiet_s, 1.0)
         for batch in batches(source, self.clock, quiet_s=self.quiet_s, max_wait_s=max_wait,
                              stop=stop, idle=self._supervise):

@@ -19,7 +19,7 @@ from watchdog.events import (
 
 from daemon.batching import FULL, Batch, Change, batches
 from daemon.scope import Scope
-from daemon.watch import changes_of
+from daemon.events import changes_of
 from segment.settings import Settings
 
 

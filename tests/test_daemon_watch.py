@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 
 from daemon import Watcher, read_status, reconcile
-from daemon.watch import _Enqueue
+from daemon.events import EnqueueHandler
 from segment.settings import Settings
 from tests.daemon_helpers import assert_feed_matches, chunk_files, feed, page, tree_of, write
 
@@ -148,7 +148,7 @@ def test_a_queue_overflow_leads_to_a_full_reconcile(watcher: Watcher, docs: Path
     (docs / "area0" / "page0.md").unlink()
     logging.getLogger("watchdog.observers.inotify_c").warning(
         "Inotify queue overflowed; filesystem events were lost")
-    watcher.loop.observer.schedule(_Enqueue(watcher.loop.events), str(docs), recursive=True)
+    watcher.loop.observer.schedule(EnqueueHandler(watcher.loop.events), str(docs), recursive=True)
     watcher.sync(10)
     assert "lost.md.jsonl" in chunk_files(tmp_path / "out")
     assert "area0/page0.md.jsonl" not in chunk_files(tmp_path / "out")
@@ -319,11 +319,11 @@ def test_too_many_folders_for_inotify_fall_back_to_polling_and_say_so(
 
 def test_a_network_file_system_is_watched_by_polling(docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     # RELIABILITY W12: inotify does not see other hosts' writes on NFS/CIFS; poll instead.
-    import daemon.watch
+    import daemon.events
     from watchdog.observers.polling import PollingObserver
 
-    assert daemon.watch.fs_type(tmp_path) != ""  # read from /proc/self/mountinfo
-    monkeypatch.setattr(daemon.watch, "fs_type", lambda path: "nfs4")
+    assert daemon.events.fs_type(tmp_path) != ""  # read from /proc/self/mountinfo
+    monkeypatch.setattr(daemon.events, "fs_type", lambda path: "nfs4")
     out = tmp_path / "out"
     with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
         assert isinstance(w.loop.observer, PollingObserver)  # type: ignore[union-attr]

@@ -1,0 +1,54 @@
+"""What one reconcile pass did: counts, failures, and its one log line."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(slots=True)
+class SyncReport:
+    """What one reconcile pass did."""
+
+    scanned: int = 0
+    """Files looked at (on disk or in the store)."""
+    parsed: int = 0
+    """Files re-segmented successfully."""
+    unchanged: int = 0
+    deleted: int = 0
+    failed: list[tuple[str, str, str]] = field(default_factory=list)
+    """(source, status, reason) of files that failed in this pass."""
+    added: int = 0
+    """Chunk ids announced as upserts."""
+    removed: int = 0
+    """Chunk ids announced as deletes."""
+    skipped: list[str] = field(default_factory=list)
+    """Sources that kept changing during their parse (left for the next pass)."""
+    last_seq: int = 0
+    ms: float = 0.0
+    parse_pids: set[int] = field(default_factory=set)
+    """Processes that parsed files (never the daemon's own pid)."""
+    interrupted: int = 0
+    """Files left for the next pass because a stop was requested."""
+
+    def line(self, what: str) -> str:
+        """The one log line for this pass."""
+        failed = f", {len(self.failed)} failed" if self.failed else ""
+        skipped = f", {len(self.skipped)} still changing" if self.skipped else ""
+        skipped += f", {self.interrupted} left for the next run (stopped)" if self.interrupted else ""
+        return (
+            f"{what}: {self.scanned} files, re-segmented {self.parsed} files, deleted {self.deleted}"
+            f"{failed}{skipped}; chunks +{self.added} -{self.removed}; {self.ms:.0f} ms"
+        )
+
+    def merge(self, other: SyncReport) -> None:
+        """Add another pass's counts to this one."""
+        self.scanned += other.scanned
+        self.parsed += other.parsed
+        self.unchanged += other.unchanged
+        self.deleted += other.deleted
+        self.failed += other.failed
+        self.added += other.added
+        self.removed += other.removed
+        self.skipped += other.skipped
+        self.last_seq = max(self.last_seq, other.last_seq)
+        self.parse_pids |= other.parse_pids
