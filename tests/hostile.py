@@ -96,6 +96,15 @@ def encrypted_pdf(user_pw: str) -> bytes:
     return data
 
 
+@cache
+def objstm_pdf() -> bytes:
+    """The good PDF saved with object streams (compressed cross-reference streams)."""
+    doc = pymupdf.open(stream=good_pdf(), filetype="pdf")
+    data = doc.tobytes(garbage=1, deflate=True, use_objstms=1)
+    doc.close()
+    return data
+
+
 def random_bytes(n: int, seed: int = 6) -> bytes:
     return random.Random(seed).randbytes(n)
 
@@ -110,8 +119,17 @@ CASES: tuple[Hostile, ...] = (
     *(
         Hostile(f"cut-{int(s * 100)}.pdf".encode(), lambda s=s: cut_pdf(s), "ok", PDF_FAIL, "",
                 f"PDF cut at {s:.0%}: fails to open, or opens repaired with partial text", frozenset({"pdf", "cut"}))
-        for s in (0.1, 0.3, 0.6, 0.9, 0.97)
+        for s in (0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 0.97)
     ),
+    *(
+        Hostile(f"objstm-cut-{int(s * 100)}.pdf".encode(), lambda s=s: objstm_pdf()[: int(len(objstm_pdf()) * s)],
+                "ok", PDF_FAIL | {"no_text"}, "",
+                f"PDF with object streams cut at {s:.0%} (may open with 0 pages)", frozenset({"pdf", "cut"}))
+        for s in (0.5, 0.9)
+    ),
+    Hostile(b"header-only.pdf", lambda: b"%PDF-1.7\n", "failed", PDF_FAIL, why="a PDF header and nothing else"),
+    Hostile(b"header-garbage.pdf", lambda: b"%PDF-1.4\n" + random_bytes(20_000, 7), "failed",
+            PDF_FAIL | {"no_text"}, why="a PDF header, then random bytes"),
     Hostile(b"broken-xref.pdf", broken_xref_pdf, "ok", PDF_FAIL, "Storage checklist",
             "cross-reference table overwritten: repaired", frozenset({"pdf"})),
     Hostile(b"aes256-user.pdf", lambda: encrypted_pdf("hangar-7"), "failed", frozenset({"encrypted"}),
