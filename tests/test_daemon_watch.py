@@ -245,18 +245,18 @@ def test_a_second_ctrl_c_aborts_a_stuck_batch_with_130(docs: Path, tmp_path: Pat
 
 def _children_busy(pid: int) -> bool:
     """True when some descendant of `pid` is running (a worker spinning on the hang file)."""
-    try:
-        out = subprocess.run(["ps", "-o", "stat=,ppid=,pid=", "-e"], capture_output=True, text=True).stdout
-    except OSError:
-        return True
-    rows = [line.split() for line in out.splitlines() if len(line.split()) == 3]
     kids: dict[int, list[tuple[str, int]]] = {}
-    for stat, ppid, child in rows:
-        kids.setdefault(int(ppid), []).append((stat, int(child)))
+    for stat in Path("/proc").glob("[0-9]*/stat"):
+        try:
+            text = stat.read_text()
+        except OSError:
+            continue
+        fields = text[text.rindex(")") + 2:].split()  # state, ppid, ... after "pid (comm)"
+        kids.setdefault(int(fields[1]), []).append((fields[0], int(stat.parent.name)))
     stack, running = [pid], False
     while stack:
-        for stat, child in kids.get(stack.pop(), []):
-            running |= stat.startswith("R")
+        for state, child in kids.get(stack.pop(), []):
+            running |= state == "R"
             stack.append(child)
     return running
 
