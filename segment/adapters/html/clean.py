@@ -8,9 +8,10 @@ The rule, in order:
    elements whose class or id is a known boilerplate token (`tags.DROP_CLASSES`, e.g. DocBook's
    `navheader`/`navfooter`, Sphinx's `sphinxsidebar`). A `header` is dropped unless it sits
    inside `main`/`article` (there it is the article's own header and often holds the `h1`).
-2. The main content is the first `main`, else the first `role="main"`, else a lone `article`
-   (several articles: their common parent), each only if it holds at least 30% of the page's
-   non-link text (an empty placeholder `main` filled by scripts does not count), else the result of descending from `body` while one
+2. The main content is the first `main`, else the first `role="main"`, if it holds at least 30%
+   of the page's non-link text (an empty placeholder `main` filled by scripts does not count),
+   else a lone `article` (several articles: their common parent) holding at least half of it,
+   else the result of descending from `body` while one
    wrapper child (`div`, `section`, `span`, a layout `td`...) holds at least 90% of the remaining
    non-link text and every heading (so a page without landmarks keeps all its headed content,
    and sidebars of links fall away).
@@ -42,6 +43,9 @@ from segment.adapters.html.text import is_permalink
 LANDMARK_SHARE = 0.3
 """A `main`/`article` landmark is used only when it holds this share of the page's non-link text
 (a script-filled `<main></main>` placeholder must not empty the page)."""
+
+ARTICLE_SHARE = 0.5
+"""An `article` is a weaker mark (cards, teasers, comments): it must hold half the text."""
 
 MAIN_SHARE = 0.9
 """A child must hold this share of its parent's non-link text for the heuristic to descend."""
@@ -188,16 +192,19 @@ def _choose_main(
     def holds_content(el: etree._Element) -> bool:
         return _holds_share(el, body, LANDMARK_SHARE)
 
+    def holds_most(el: etree._Element) -> bool:
+        return _holds_share(el, body, ARTICLE_SHARE)
+
     for candidates in (mains, role_mains):
         for el in candidates:
             if (el is body or _attached(el, body)) and holds_content(el):
                 return el
     live = [a for a in articles if _attached(a, body)]
-    if len(live) == 1 and holds_content(live[0]):
+    if len(live) == 1 and holds_most(live[0]):
         return live[0]
     if len(live) > 1:
         parent = live[0].getparent()
-        if parent is not None and all(a.getparent() is parent for a in live) and holds_content(parent):
+        if parent is not None and all(a.getparent() is parent for a in live) and holds_most(parent):
             return parent
     return _densest(body)
 
@@ -259,17 +266,21 @@ def _densest(body: etree._Element) -> etree._Element:
     return node
 
 
-_WRAPPER_TAGS = frozenset({"div", "section", "article", "main", "center", "span", "font", "td"})
-"""Elements the heuristic may descend into: generic wrappers, never a table, list or code block."""
+_WRAPPER_TAGS = frozenset({"div", "section", "article", "main", "center", "td"})
+"""Elements the heuristic may descend into: generic block wrappers, never a table, list or code
+block, nor an inline element."""
 
 _ALL_TEXT = etree.XPath(".//text()", smart_strings=False)
 _LINK_TEXT = etree.XPath(".//a//text()", smart_strings=False)
 
 
+_NOT_COUNTED = " \t\n\r\f" + BREAK
+
+
 def _text_weight(el: etree._Element) -> int:
     """Characters of text outside links (whitespace at the ends of text nodes not counted)."""
-    everything = sum(len(t.strip()) for t in _ALL_TEXT(el))
-    links = sum(len(t.strip()) for t in _LINK_TEXT(el))
+    everything = sum(len(t.strip(_NOT_COUNTED)) for t in _ALL_TEXT(el))
+    links = sum(len(t.strip(_NOT_COUNTED)) for t in _LINK_TEXT(el))
     return everything - links
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from lxml import etree
 
 from segment.adapters.html.tags import BLOCK_TAGS, tag_of
-from segment.adapters.html.text import is_permalink
+from segment.adapters.html.text import has_block, is_permalink
 from segment.tree import Code, Span
 
 _LANG_PREFIXES = ("language-", "lang-", "highlight-", "sourcecode-")
@@ -42,7 +42,9 @@ def heading_text(el: etree._Element) -> tuple[str, str | None]:
 
 
 def code_block(el: etree._Element) -> Code:
-    raw = "".join(el.itertext()).replace("\r\n", "\n").replace("\r", "\n")
+    """A `pre` as code lines; a block element inside it (rare) starts a new line, as rendered."""
+    raw = _lined_text(el) if has_block(el) else "".join(el.itertext())
+    raw = raw.replace("\r\n", "\n").replace("\r", "\n")
     line = el.sourceline
     if raw.startswith("\n"):  # the HTML parser rule: a newline right after <pre> is dropped
         raw = raw[1:]
@@ -52,6 +54,28 @@ def code_block(el: etree._Element) -> Code:
         lines.pop()
     span = Span(lines=(line, line + max(len(lines), 1) - 1)) if line is not None else Span()
     return Code(lines, language(el), span)
+
+
+def _lined_text(el: etree._Element) -> str:
+    pieces: list[str] = [el.text or ""]
+
+    def newline() -> None:
+        if pieces and not pieces[-1].endswith("\n"):
+            pieces.append("\n")
+
+    for event, node in etree.iterwalk(el, events=("start", "end")):
+        if node is el:
+            continue
+        block = node.tag in BLOCK_TAGS
+        if event == "start":
+            if block:
+                newline()
+            pieces.append(node.text or "")
+        else:
+            if block:
+                newline()
+            pieces.append(node.tail or "")
+    return "".join(pieces)
 
 
 def gutter_code(table: etree._Element) -> etree._Element | None:

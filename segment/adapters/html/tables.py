@@ -23,7 +23,7 @@ from dataclasses import dataclass, field
 
 from lxml import etree
 
-from segment.adapters.html.tags import HEADING_TAGS, tag_of
+from segment.adapters.html.tags import BLOCK_TAGS, HEADING_TAGS, tag_of
 from segment.adapters.html.text import collapse, flat_text, has_block, spaced_text
 from segment.tree import Row, Span, Table, merge_spans
 
@@ -94,6 +94,39 @@ def _all_link(cell: etree._Element) -> bool:
     """Every word of the cell is inside a link."""
     links = " ".join(flat_text(a) for a in cell.iter("a") if a.get("href") is not None)
     return bool(links) and links.split() == flat_text(cell).split()
+
+
+def fostered_text(table: etree._Element) -> str:
+    """Text a browser moves out in front of the table ("foster parenting", HTML standard 13.2.6.1):
+    text and elements that sit in the table, a row group or a row outside any cell."""
+    parts: list[str] = [table.text or ""]
+    for child in table:
+        tag = tag_of(child)
+        if tag in ("thead", "tbody", "tfoot"):
+            parts.append(child.text or "")
+            for tr in child:
+                parts.extend(_row_stray(tr) if tag_of(tr) == "tr" else [_raw(tr)])
+                parts.append(tr.tail or "")
+        elif tag == "tr":
+            parts.extend(_row_stray(child))
+        elif tag not in ("caption", "colgroup", "col", ""):
+            parts.append(_raw(child))
+        parts.append(child.tail or "")
+    return collapse("".join(parts))
+
+
+def _row_stray(tr: etree._Element) -> list[str]:
+    out = [tr.text or ""]
+    for cell in tr:
+        if tag_of(cell) not in ("td", "th", ""):
+            out.append(_raw(cell))
+        out.append(cell.tail or "")
+    return out
+
+
+def _raw(el: etree._Element) -> str:
+    text = spaced_text(el) if has_block(el) else "".join(el.itertext())
+    return f" {text} " if tag_of(el) in BLOCK_TAGS else text
 
 
 def _iter_rows(table: etree._Element):  # type: ignore[no-untyped-def]

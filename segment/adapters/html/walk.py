@@ -18,7 +18,7 @@ from typing import Any
 from lxml import etree
 
 from segment.adapters.html.leaves import code_block, gutter_code, heading_text
-from segment.adapters.html.tables import build_table, table_kind
+from segment.adapters.html.tables import build_table, fostered_text, table_kind
 from segment.adapters.html.tags import (
     BLOCK_TAGS,
     HEADING_TAGS,
@@ -190,6 +190,9 @@ class Walker:
             if kind == "navigation":
                 return False
             if kind == "data":
+                stray = fostered_text(el)
+                if stray:
+                    self._add(f.sink, Paragraph(stray, Span(lines=_lines(el.sourceline, el.sourceline))))
                 table = build_table(el, self.captions.pop(el, None))
                 if table.rows or table.header:
                     self._add(f.sink, table)
@@ -360,6 +363,7 @@ class Walker:
             frame = _Frame(el, iter(el), None, _DL, f.node, None, start=el.sourceline,
                            line=el.sourceline or f.line)
             stack.append(frame)
+            self._text(frame, el.text, frame.line)
             return
         if not items:
             items.append(Definition(terms=[]))
