@@ -110,3 +110,33 @@ def test_the_budget_binds(tokenizer_file: Path) -> None:
     assert max(counts) > MAX_TOKENS * 0.75
     # Source: the same tokenizer on the whole page; the pages are far over one chunk's budget.
     assert max(_count(tok, p.read_text(encoding="utf-8")) for p in _demo_pages()) > 4 * MAX_TOKENS
+
+
+# Found by running the shared corpus under the byte-level BPE (6 chunks over 256, up to 268).
+KNOWN_ITEM_CODE: dict[str, str] = {
+    "byte-bpe": "F11: parts of a code block inside a list item are counted before the item's "
+    "indentation is added; byte-level BPE counts those spaces (chunks of 129-142 > 128)",
+}
+
+
+def test_code_inside_a_list_item_fits_under_the_real_tokenizer(
+    tokenizer_file: Path, request: pytest.FixtureRequest, tmp_path: Path
+) -> None:
+    known = KNOWN_ITEM_CODE.get(request.node.callspec.params["tokenizer_file"])
+    if known:
+        request.applymarker(pytest.mark.xfail(reason=known, strict=True))
+    # CommonMark 0.31.2, "List items": a fenced block indented to the item's content column
+    # belongs to the item.
+    body = "".join(f"      key_{i}: value number {i}\n" for i in range(80))
+    page = tmp_path / "item-code.md"
+    page.write_text(
+        "1. Write the configuration:\n\n   ```yaml\n"
+        + "".join("   " + line for line in body.splitlines(True))
+        + "   ```\n",
+        encoding="utf-8",
+    )
+    tok = Tokenizer.from_file(str(tokenizer_file))
+    chunks = segment.chunk_file(page, Settings(tokenizer=str(tokenizer_file), max_tokens=MAX_TOKENS))
+    counts = [_count(tok, c.text) for c in chunks]
+    assert len(chunks) >= 3
+    assert all(n <= MAX_TOKENS or c.oversize for n, c in zip(counts, chunks)), counts
