@@ -131,7 +131,10 @@ def main(argv: list[str] | None = None) -> int:
     if args.engine:
         head += f" {'build(ft)':>9} {'x raw':>6}"
     print(head)
-    totals = {"pages": 0, "raw": 0.0, "img": 0.0, "parse": 0.0, "build": 0.0, "tables": 0.0, "cand": 0, "ft": 0.0}
+    totals = {
+        "pages": 0, "raw": 0.0, "img": 0.0, "parse": 0.0, "build": 0.0, "tables": 0.0, "cand": 0, "ft": 0.0,
+        "extract": 0.0, "layout": 0.0,
+    }
     fonts_scores = [0, 0, 0]
     for path in files:
         data = path.read_bytes()
@@ -153,6 +156,8 @@ def main(argv: list[str] | None = None) -> int:
         totals["parse"] += t_parse
         totals["build"] += t_build
         totals["tables"] += timing.tables
+        totals["extract"] += timing.extract
+        totals["layout"] += timing.layout
         totals["cand"] += timing.table_pages
         if args.engine:
             t_ft = best(lambda: build(data, path.name, "pymupdf"), 1)
@@ -174,6 +179,12 @@ def main(argv: list[str] | None = None) -> int:
     print(
         f"\npages/s: raw dict {t['pages'] / t['raw']:.0f}, dict with images {t['pages'] / t['img']:.0f}, "
         f"parse {t['pages'] / t['parse']:.0f}, build {t['pages'] / t['build']:.0f}"
+    )
+    seg = t["build"] - t["parse"]
+    print(
+        f"build stages (CPU s, last run of each file): text lines {t['extract']:.3f} "
+        f"(raw dict alone {t['raw']:.3f}), tables {t['tables']:.3f}, layout+headings+tree {t['layout']:.3f}, "
+        f"segmenter ~{seg:.3f}"
     )
     hits, found, expected = fonts_scores
     if found and expected:

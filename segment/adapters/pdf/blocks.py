@@ -93,10 +93,7 @@ class Item:
 
 def vocabulary(lines: list[Line]) -> set[str]:
     """Lower-cased words of the document, to decide hyphen joins."""
-    words: set[str] = set()
-    for ln in lines:
-        words.update(w.lower() for w in _WORD.findall(ln.text))
-    return words
+    return set(_WORD.findall("\n".join([ln.text for ln in lines]).lower()))
 
 
 def join_lines(lines: list[str], vocab: set[str]) -> str:
@@ -182,8 +179,12 @@ def classify(block: TextBlock, vocab: set[str]) -> Item:
     if block.payload is not None:
         return Item("table", [block])
     lines = block.lines
-    chars = sum(len(ln.text.strip()) for ln in lines) or 1
-    mono = sum(ln.mono * len(ln.text.strip()) for ln in lines) / chars
+    chars = mono = 0.0
+    for ln in lines:
+        n = len(ln.text)
+        chars += n
+        mono += ln.mono * n
+    mono = mono / (chars or 1)
     marker = _marker(lines[0].text)
     if marker is not None and _marker_is_mono(lines[0]):
         marker = None  # "- item" inside a code listing
@@ -210,7 +211,7 @@ def code_lines(lines: list[Line]) -> list[str]:
     """Code text with indentation rebuilt from x offsets (one space per character width)."""
     widths = [
         (p.x1 - p.x0) / len(p.text)
-        for ln in lines
+        for ln in lines[:40]  # a sample is enough for the character width
         for p in ln.pieces
         if p.mono and len(p.text) >= 2 and p.x1 > p.x0
     ]

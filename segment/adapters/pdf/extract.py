@@ -175,7 +175,9 @@ def page_lines(
                 if text:
                     bold, italic, mono, sup = _style(span["font"], span["flags"])
                     box = span["bbox"]
-                    pieces.append(Piece(normalise_text(text), box[0], box[2], span["size"], bold, italic, mono, sup))
+                    if not text.isascii():
+                        text = normalise_text(text)
+                    pieces.append(Piece(text, box[0], box[2], span["size"], bold, italic, mono, sup))
             if not pieces:
                 continue
             x0, y0, x1, y1 = raw["bbox"]
