@@ -19,6 +19,7 @@ import pytest
 from watchdog.observers import Observer
 from watchdog.observers.polling import PollingObserver
 
+import daemon.events as events
 import daemon.watch as watch
 from daemon import Watcher, read_status, reconcile
 from daemon.commands import run_build
@@ -105,28 +106,33 @@ MOUNTINFO = """\
 """
 
 
-def test_the_file_system_type_is_read_from_mountinfo(tmp_path: Path) -> None:
-    info = tmp_path / "mountinfo"
-    info.write_text(MOUNTINFO)
-    fs_type = getattr(watch, "fs_type", None)
-    if fs_type is None:
-        pytest.xfail("daemon/watch.py does not read the file system type (RELIABILITY W12)")
-    assert fs_type(Path("/srv/docs/guides"), str(info)) == "nfs4"
-    assert fs_type(Path("/srv/docs/local/x"), str(info)) == "tmpfs"  # the longest mount wins
-    assert fs_type(Path("/mnt/share drive/a"), str(info)) == "cifs"  # octal escapes decoded
-    assert fs_type(Path("/home/me/remote"), str(info)) == "fuse.sshfs"
-    assert fs_type(Path("/srv/docsx"), str(info)) == "ext4"  # not a prefix match on names
-    assert watch.is_network_fs("nfs4") and watch.is_network_fs("cifs") and watch.is_network_fs("fuse.sshfs")
-    assert not watch.is_network_fs("ext4") and not watch.is_network_fs("overlay")
+def test_the_file_system_type_is_read_from_mountinfo(monkeypatch: pytest.MonkeyPatch) -> None:
+    # /proc/self/mountinfo format: proc(5); the type follows the " - " separator, and spaces in
+    # mount points are written as the octal escape \040.
+    real = Path.read_text
+
+    def fake(self: Path, *args: object, **kwargs: object) -> str:
+        if str(self) == "/proc/self/mountinfo":
+            return MOUNTINFO
+        return real(self, *args, **kwargs)  # type: ignore[arg-type]
+
+    monkeypatch.setattr(Path, "read_text", fake)
+    assert events.fs_type(Path("/srv/docs/guides")) == "nfs4"
+    assert events.fs_type(Path("/srv/docs/local/x")) == "tmpfs"  # the longest mount wins
+    assert events.fs_type(Path("/mnt/share drive/a")) == "cifs"  # octal escape decoded
+    assert events.fs_type(Path("/home/me/remote")) == "fuse.sshfs"
+    assert events.fs_type(Path("/srv/docsx")) == "ext4"  # a mount point is not a name prefix
+    assert events.needs_polling(Path("/srv/docs/guides")) and events.needs_polling(Path("/mnt/share drive"))
+    assert events.needs_polling(Path("/home/me/remote"))
+    assert not events.needs_polling(Path("/srv/docs/local/x")) and not events.needs_polling(Path("/etc"))
 
 
 @pytest.mark.timeout(60)
 def test_a_network_file_system_is_watched_by_polling_and_still_converges(
         docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     # RELIABILITY W12: inotify does not see changes made by other hosts; poll instead.
-    if not hasattr(watch, "fs_type"):
-        pytest.xfail("daemon/watch.py does not read the file system type (RELIABILITY W12)")
-    monkeypatch.setattr(watch, "fs_type", lambda path, mountinfo="": "nfs4")
+    monkeypatch.setattr(watch, "needs_polling", lambda path: True)
+    monkeypatch.setattr(watch, "fs_type", lambda path: "nfs4")
     out = tmp_path / "out"
     with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
         assert w.loop is not None and isinstance(w.loop.observer, PollingObserver)
