@@ -259,20 +259,21 @@ class WorkerPool:
                 if stop is not None and pending and stop():
                     pending.clear()
                     continue
-                for worker in self._workers:
-                    if worker.ready and worker.task is None and pending:
-                        worker.task = pending.popleft()
-                        worker.deadline = time.monotonic() + self.settings.timeout_s
-                        worker.conn.send(worker.task)
+                self._dispatch(pending)
                 busy = [w for w in self._workers if w.task is not None]
                 deadline = min((w.deadline for w in busy), default=time.monotonic() + 1.0)
                 waitables: list[Any] = [w.conn for w in self._workers] + [w.proc.sentinel for w in self._workers]
                 ready = multiprocessing.connection.wait(waitables, max(0.0, deadline - time.monotonic()))
+                done = []
                 for worker in list(self._workers):
                     if worker.conn in ready or worker.proc.sentinel in ready:
                         outcome = self._receive(worker)
                         if outcome is not None:
-                            yield outcome
+                            done.append(outcome)
+                # Hand out the next tasks before the caller spends time on the results.
+                if not (stop is not None and stop()):
+                    self._dispatch(pending)
+                yield from done
                 now = time.monotonic()
                 for worker in list(self._workers):
                     if worker.task is not None and now >= worker.deadline:
@@ -291,6 +292,18 @@ class WorkerPool:
             for worker in list(self._workers):
                 if worker.task is not None:
                     self._discard(worker, kill=True)
+
+    def _dispatch(self, pending: deque[Task]) -> None:
+        for worker in self._workers:
+            if worker.ready and worker.task is None and pending:
+                task = pending.popleft()
+                try:
+                    worker.conn.send(task)
+                except OSError:  # died while idle: its sentinel reports it, the task waits
+                    pending.appendleft(task)
+                    continue
+                worker.task = task
+                worker.deadline = time.monotonic() + self.settings.timeout_s
 
     def _receive(self, worker: _Worker) -> Outcome | None:
         try:
