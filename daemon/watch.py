@@ -167,7 +167,7 @@ class WatchLoop:
             log.warning("%s is back; resuming", self.syncer.src)
             self._restart_observer()
             return [FULL]
-        if self.observer is None or not self.observer.is_alive():
+        if self.observer is None or not _observer_alive(self.observer):
             log.error("the file watcher thread died; restarting it and rescanning everything")
             self.observer_restarts += 1
             self._bump("observer_restarts")
@@ -246,6 +246,11 @@ class WatchLoop:
                 self.syncer.store.set_meta("degraded", value)
         except (OSError, sqlite3.Error) as exc:
             log.error("cannot record the degraded state %r: %s", value, exc)
+
+
+def _observer_alive(observer: Any) -> bool:
+    """The dispatch thread and every emitter thread are running (either can die alone, W10)."""
+    return bool(observer.is_alive()) and all(e.is_alive() for e in getattr(observer, "emitters", ()))
 
 
 class Watcher:

@@ -333,3 +333,15 @@ def test_a_network_file_system_is_watched_by_polling(docs: Path, tmp_path: Path,
         os.replace(tmp, docs / "area0" / "page0.md")
         w.sync(20)
         assert b"over the network" in chunk_files(out)["area0/page0.md.jsonl"]
+
+
+def test_a_dead_emitter_thread_is_noticed_too(watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    # RELIABILITY W10: the dispatcher can live on while the thread reading inotify is gone.
+    assert watcher.loop is not None
+    emitter = next(iter(watcher.loop.observer.emitters))
+    emitter.stop()
+    emitter.join(5)
+    write(docs / "unheard.md", page("Spare parts", "Written while nobody listened."))
+    watcher.sync(10)
+    assert "unheard.md.jsonl" in chunk_files(tmp_path / "out")
+    assert watcher.loop.observer_restarts == 1
