@@ -27,7 +27,9 @@ WORD = re.compile(r"\w+")
 WORDS = st.sampled_from(["dock", "drone", "route", "zone", "battery", "lid", "wind", "site", "pack", "map"])
 BLOCK = ["div", "p", "section", "blockquote", "pre", "h1", "h2", "h3", "h4", "li", "ul", "ol",
          "dl", "dt", "dd", "table", "tr", "td", "th", "details", "summary", "figure", "figcaption",
-         "article"]
+         "article", "thead", "tbody", "caption", "hgroup", "address", "center"]
+ATTRS = ["", "", "", ' class="note"', ' class="admonition warning"', ' class="title"', ' class="table"',
+         ' role="heading" aria-level="3"', ' open', ' colspan="2"', ' id="x"']
 INLINE = ["span", "b", "em", "code", "a", "small"]
 
 
@@ -42,7 +44,7 @@ def fragments(draw: st.DrawFn, depth: int = 0) -> str:
             parts.append("<br>")
         else:
             tag = draw(st.sampled_from(INLINE if kind == "inline" else BLOCK))
-            attrs = ' href="https://example.org/x"' if tag == "a" else ""
+            attrs = ' href="https://example.org/x"' if tag == "a" else draw(st.sampled_from(ATTRS))
             parts.append(f"<{tag}{attrs}>{draw(fragments(depth + 1))}</{tag}>")
         parts.append(draw(st.sampled_from([" ", "\n", ""])))
     return "".join(parts)
@@ -83,7 +85,7 @@ def test_without_landmarks_the_heuristic_keeps_ninety_percent(body: str) -> None
     # Without <main> or <article>, the main-content rule may leave out what sits beside the
     # wrapper that holds 90% of the non-link text (unmarked footers, bylines, link lists). Our
     # weight counts characters with inner spaces, this check word characters: hence 85%.
-    assume("<article>" not in body)  # an article landmark that holds half the text is the page
+    assume("<article" not in body)  # an article landmark that holds half the text is the page
     page = f"<!DOCTYPE html><html><head><title>t</title></head><body>{body}</body></html>".encode()
     doc = parse(page, "gen.html")
     found = sum((_reference_words(page) & _tree_words(doc)).values())
