@@ -99,3 +99,21 @@ def test_arbitrary_bytes_never_raise_anything_but_parse_error(data: bytes) -> No
         parse(b"<p>" + data, "junk.html")
     except ParseError:
         pass
+
+
+SOUP = st.sampled_from([
+    "<div>", "</div>", "<p>", "</p>", "<table>", "<tr>", "<td>", "</td>", "</table>", "<ul>", "<li>",
+    "</ul>", "<dl>", "<dt>", "<dd>", "</dl>", "<h2>", "</h2>", "<pre>", "</pre>", "<br>", "<b>", "</i>",
+    "<details>", "<summary>", "<blockquote>", "<nav>", "<main>", "</main>", "<script>", "</script>",
+    "<!--", "-->", "&amp;", "&bogus;", "\n", " ", "dock", "route", "<a href='#'>", "</a>", "<img alt=x>",
+])
+
+
+@settings(max_examples=int(__import__("os").environ.get("HTML_PROP_EXAMPLES", "300")), deadline=None)
+@given(st.lists(SOUP, max_size=60))
+def test_tag_soup_parses_and_chunks(tokens: list[str]) -> None:
+    import segment
+
+    doc = parse("".join(tokens).encode(), "soup.html")
+    for chunk in segment.chunk(doc, segment.Settings(max_tokens=32, min_tokens=0)):
+        assert chunk.text.strip()
