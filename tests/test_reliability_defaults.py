@@ -136,11 +136,8 @@ def test_an_unreadable_file_gets_status_unreadable(tmp_path: Path, monkeypatch: 
 
 
 @pytest.mark.timeout(60)
-@pytest.mark.xfail(strict=True, reason=(
-    "gap: an `exclude` list in segment.toml replaces the defaults (command-line flags add to them), "
-    "so .env/*.pem/*.key files are indexed as soon as a project sets its own excludes; "
-    "test_cli.py::test_segment_toml_in_the_source_root_is_read pins the replacing behaviour"))
 def test_a_project_exclude_list_keeps_the_secret_patterns(tmp_path: Path) -> None:
+    # An `exclude` list in segment.toml adds to the defaults, like the command-line flag.
     from segment.settings import load_settings
 
     src, out = tmp_path / "docs", tmp_path / "out"
