@@ -305,3 +305,18 @@ def test_columns_read_in_order(corpus: dict[str, Parsed], name: str) -> None:
     missing = [p for p in probes if p not in flat]
     # Reading across the gutter would break every one of these lines.
     assert len(missing) <= len(probes) // 4, missing
+
+
+def test_reference_card_keys_become_definitions(corpus: dict[str, Parsed]) -> None:
+    # refcard-a4.pdf sets "key   description" rows with no rules (SOURCE.md): each row is a
+    # term and its definition, read down each of the three columns.
+    from segment.tree import DefinitionList
+
+    parsed = corpus.get("refcard-a4.pdf") or pytest.skip("refcard-a4.pdf not in the corpus")
+    lists = [b for _, s in parsed.outline.walk() for b in s.blocks if isinstance(b, DefinitionList)]
+    pairs = {item.terms[0]: item.blocks[0].text for lst in lists for item in lst.items if item.blocks}
+    assert len(pairs) >= 150
+    assert pairs["octave"] == "start interactive Octave session"
+    assert pairs["quit or exit"] == "exit Octave"
+    starting = next(s for _, s in parsed.outline.walk() if s.heading and s.heading.text == "Starting Octave")
+    assert isinstance(starting.blocks[0], DefinitionList)

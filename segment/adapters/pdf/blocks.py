@@ -40,6 +40,8 @@ class Item:
     notes: str = ""
     """Processing marks (e.g. "merged" code)."""
     cache: tuple[int, tuple[float, float, float]] | None = None
+    pairs: list[tuple[str, str]] = field(default_factory=list)
+    """Key/description pairs of a "definitions" item."""
     extra_rows: list[tuple[list[str], int]] = field(default_factory=list)
     """Rows of a table's continuation on later pages (cells, page)."""
 
@@ -190,6 +192,8 @@ def classify(block: TextBlock, vocab: set[str]) -> Item:
         marker = None  # "- item" inside a code listing
     if mono >= 0.8 and marker is None:
         return Item("code", [block], code_lines=code_lines(lines))
+    if _pairs_block(lines):
+        return Item("definitions", [block], pairs=_pairs(lines, vocab))
     if marker is not None:
         first = lines[0]
         hanging = all(ln.x0 >= first.x0 + 1.5 for ln in lines[1:])
@@ -205,6 +209,31 @@ def classify(block: TextBlock, vocab: set[str]) -> Item:
                 marker_x=first.x0,
             )
     return Item("text", [block], text=join_lines([ln.text for ln in lines], vocab))
+
+
+def _pairs_block(lines: list[Line]) -> bool:
+    """Most lines are a key, a wide gap, then a description."""
+    paired = sum(1 for ln in lines if ln.split > 0)
+    return paired >= 2 and paired >= 0.6 * len(lines)
+
+
+def _pairs(lines: list[Line], vocab: set[str]) -> list[tuple[str, str]]:
+    """(key, description) of each pair; an unpaired line indented to the descriptions continues
+    the one above, one at the keys' margin is an entry of its own."""
+    out: list[tuple[str, list[str]]] = []
+    key_x = min(ln.x0 for ln in lines)
+    for ln in lines:
+        if ln.split <= 0 and abs(ln.x0 - key_x) <= 2:
+            out.append((ln.text.strip(), []))  # a key whose description runs on without a gap
+        elif ln.split > 0:
+            key = "".join(p.text for p in ln.pieces[: ln.split]).strip()
+            value = "".join(p.text for p in ln.pieces[ln.split :]).strip()
+            out.append((key, [value]))
+        elif out:
+            out[-1][1].append(ln.text)
+        else:
+            out.append((ln.text.strip(), []))
+    return [(key, join_lines(parts, vocab)) for key, parts in out]
 
 
 def code_lines(lines: list[Line]) -> list[str]:

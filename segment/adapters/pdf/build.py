@@ -6,6 +6,8 @@ from segment.adapters.pdf.blocks import Item
 from segment.adapters.pdf.tables import FoundTable
 from segment.tree import (
     Code,
+    Definition,
+    DefinitionList,
     Document,
     Heading,
     ListBlock,
@@ -74,7 +76,7 @@ def _anchor(span: Span) -> str | None:
     return f"page={span.pages[0]}" if span.pages else None
 
 
-def _node(item: Item) -> Paragraph | Code | Table | None:
+def _node(item: Item) -> Paragraph | Code | Table | DefinitionList | None:
     if item.kind == "table":
         payload = item.first.payload
         if not isinstance(payload, FoundTable):
@@ -86,6 +88,13 @@ def _node(item: Item) -> Paragraph | Code | Table | None:
         return table
     if item.kind == "code":
         return Code(lines=list(item.code_lines), span=item_span(item))
+    if item.kind == "definitions":
+        span = item_span(item)
+        entries = [
+            Definition(terms=[key], blocks=[Paragraph(text=value, span=span)] if value else [], span=span)
+            for key, value in item.pairs
+        ]
+        return DefinitionList(items=entries, span=span)
     if item.kind == "heading":
         return None
     text = item.text.strip()

@@ -92,6 +92,8 @@ class Line:
     """Marks set by later stages (e.g. "running", "table")."""
     payload: object | None = None
     """A non-text item (a table) standing in the reading order in this line's place."""
+    split: int = -1
+    """Index of the first piece after a wide gap on the baseline (a key/description pair)."""
 
     def finish(self) -> None:
         """Compute text and style summaries from the pieces."""

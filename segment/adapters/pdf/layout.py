@@ -159,14 +159,21 @@ def merge_baselines(lines: list[Line]) -> list[Line]:
     return out
 
 
+PAIR_GAP = 2.5
+"""A gap of this many font sizes between two runs on one baseline separates a key from its
+description (reference cards, option lists)."""
+
+
 def _join(a: Line, b: Line) -> Line:
     pieces = list(a.pieces)
     gap = b.x0 - a.x1
+    split = len(pieces) + 1 if gap >= PAIR_GAP * max(a.size, b.size, 1.0) and a.split < 0 else a.split
     if gap > 0.15 * max(a.size, 1.0) and not a.text.endswith(" ") and not b.text.startswith(" "):
         pieces.append(Piece(" ", a.x1, b.x0, a.size, False, False, False, False))
     pieces.extend(b.pieces)
     line = Line(a.page, a.x0, min(a.y0, b.y0), b.x1, max(a.y1, b.y1), pieces, a.block)
     line.flags = a.flags | b.flags
+    line.split = split if split < len(pieces) else -1
     line.finish()
     return line
 
