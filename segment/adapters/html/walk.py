@@ -402,6 +402,9 @@ class Walker:
                 first.text = first.text[m.end():].strip()
                 if not first.text:
                     node.blocks.pop(0)
+        elif node.label and node.blocks and isinstance(node.blocks[0], Paragraph):
+            if node.blocks[0].text.casefold().startswith(node.label.casefold() + ":"):
+                node.label = None  # the text says "Note: ..." itself; a label would repeat it
         if not node.blocks and not node.label:
             return
         node.span = Span(lines=_lines(f.start, f.line))
