@@ -9,6 +9,7 @@ from __future__ import annotations
 import json
 import logging
 import signal
+import sqlite3
 import sys
 import threading
 from pathlib import Path
@@ -65,7 +66,7 @@ def run_build(src: Path, out: Path, settings: Settings, *, jobs: int = 1, full: 
     except (OutputBusy, SourceMissing, WorkerStartError) as exc:
         click.echo(f"Error: {exc}", err=True)
         return 1
-    except OSError as exc:  # disk full, I/O error: the store was not committed past the failure
+    except (OSError, sqlite3.Error) as exc:  # disk full, I/O error: nothing past it was committed
         click.echo(f"Error: cannot write the output: {exc}; nothing after the last commit was "
                    "recorded, so running the build again redoes it", err=True)
         return 1
@@ -108,7 +109,7 @@ def run_watch(src: Path, out: Path, settings: Settings, *, jobs: int = 1, quiet_
     except (OutputBusy, SourceMissing, WorkerStartError) as exc:
         click.echo(f"Error: {exc}", err=True)
         return 1
-    except OSError as exc:
+    except (OSError, sqlite3.Error) as exc:
         click.echo(f"Error: cannot write the output: {exc}", err=True)
         return 1
     finally:

@@ -15,6 +15,7 @@ from __future__ import annotations
 import contextlib
 import logging
 import os
+import sqlite3
 import time
 from collections.abc import Callable, Generator, Iterable, Iterator
 from concurrent.futures import Future, ThreadPoolExecutor
@@ -25,7 +26,7 @@ from segment.settings import Settings
 
 from daemon.chunkfiles import CHUNKS_DIR, chunk_name, read_ids
 from daemon.durable import crashpoint, fsync_dir, remove_temps, write_if_changed
-from daemon.feed import Feed, FeedEntry, compensation, diff_ids
+from daemon.feed import Feed, FeedEntry, compensation, diff_ids, repair_tail
 from daemon.lock import OutputLock
 from daemon.report import SyncReport
 from daemon.scope import Scope, display_name
@@ -352,14 +353,25 @@ class Syncer:
             if folder.is_dir():
                 fsync_dir(folder)
         crashpoint("before_feed")
-        last = self.feed.append(group.entries)
-        crashpoint("before_commit")
-        with self.store.transaction():
-            for row in group.rows:
-                self.store.put(row)
-            for rel in group.gone:
-                self.store.delete(rel)
-            self.store.set_meta("last_seq", last)
+        try:
+            last = self.feed.append(group.entries)
+            crashpoint("before_commit")
+            with self.store.transaction():
+                for row in group.rows:
+                    self.store.put(row)
+                for rel in group.gone:
+                    self.store.delete(rel)
+                self.store.set_meta("last_seq", last)
+        except (OSError, sqlite3.Error) as exc:
+            # Feed lines may be on disk without their commit: undo them now, as a restart would.
+            self.feed.last_seq = max(self.feed.last_seq, repair_tail(self.feed.path))
+            try:
+                self._recover_feed()
+            except (OSError, sqlite3.Error) as again:
+                log.error("cannot repair the feed now (%s); the next start will", again)
+            if isinstance(exc, sqlite3.Error):
+                raise OSError(f"cannot commit the state database: {exc}") from exc
+            raise
         crashpoint("after_commit")
         report.last_seq = last
 

@@ -134,7 +134,7 @@ class WatchLoop:
             if self.degraded != "root_missing":
                 log.error("%s; paused until it is back", exc)
             self._set_degraded("root_missing")
-        except OSError as exc:
+        except (OSError, sqlite3.Error) as exc:
             # Disk full or an I/O error: nothing past the last commit was recorded. Retry the
             # whole tree in a few seconds (never trust a failed fsync: RELIABILITY S3).
             log.error("cannot write the output: %s; retrying with a full reconcile", exc)

@@ -278,3 +278,30 @@ def test_a_failed_fsync_commits_nothing_keeps_old_chunks_and_the_next_build_conv
     assert run_build(src, out, Settings()) == 0
     assert b"Rotate packs" in chunk_files(out)["area0/page0.md.jsonl"]
     assert_feed_matches(out)
+
+
+def test_a_feed_write_that_fails_halfway_is_undone_without_a_restart(
+        src: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # RELIABILITY S4 on the feed: half an append reached the disk, then the disk filled up.
+    import errno
+
+    out = tmp_path / "out"
+    with Syncer(src, out, Settings()) as syncer:
+        syncer.reconcile()
+        write(src / "area0" / "page0.md", page("Geofences", "Redraw the zone after each survey."))
+        real_write, calls = os.write, []
+
+        def half_then_full(fd: int, data: bytes) -> int:
+            if fd != -1 and bytes(data[:8]).startswith(b'{"seq"') and not calls:
+                calls.append(fd)
+                real_write(fd, bytes(data[: len(data) // 2]))
+                raise OSError(errno.ENOSPC, "No space left on device")
+            return real_write(fd, data)
+
+        monkeypatch.setattr(os, "write", half_then_full)
+        with pytest.raises(OSError, match="No space left"):
+            syncer.reconcile()
+        monkeypatch.setattr(os, "write", real_write)
+        syncer.reconcile()  # the same process carries on
+    assert_feed_matches(out)
+    assert b"Redraw the zone" in chunk_files(out)["area0/page0.md.jsonl"]
