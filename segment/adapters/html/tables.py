@@ -2,8 +2,10 @@
 
 "Forming a table" (HTML Living Standard, section 4.9.12.1): rows are read from `thead`, `tbody`
 and bare `tr` children in order, `tfoot` groups last; `colspan` is 1..1000 (0 or junk means 1),
-`rowspan` is 0..65534 where 0 grows the cell to the end of its row group; a cell that spans
-past the last row of its group lengthens the table. Every slot a cell covers gets the cell's
+`rowspan` is 0..65534 where 0 grows the cell to the end of its row group. A cell that would
+span past the last row of its group is clipped there, as browsers render it (the standard's model
+lengthens the table with empty rows instead; clipping also bounds the grid by the rows the page
+really has: a stray rowspan=65534 adds nothing). Every slot a cell covers gets the cell's
 text, so each row carries all its cells. Header rows are the `thead` rows, else the leading
 rows made only of `th` cells. Nested tables are flattened into their cell's text.
 
@@ -204,7 +206,7 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
     y = y_start
     growing: list[tuple[int, int, int, _Cell]] = []  # (x, width, y_from, cell) for rowspan=0
     group_end = y_start
-    for tr in rows:
+    for index, tr in enumerate(rows):
         start = tr.sourceline
         row_span = Span(lines=(start, start) if start is not None else None)
         grid.ensure(y, 0, row_span)
@@ -228,7 +230,9 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
                 end = td.sourceline + raw.rstrip().count("\n")
                 if end > row_span.lines[1]:  # type: ignore[index]
                     row_span = Span(lines=(start, end))
-            height = 1 if rowspan == 0 else rowspan
+            # Clipped at the group's last row, as browsers lay it out: the standard's model would
+            # add empty rows instead, and a stray rowspan=65534 would make 65,534 of them.
+            height = 1 if rowspan == 0 else min(rowspan, len(rows) - index)
             for dy in range(height):
                 for dx in range(colspan):
                     grid.ensure(y + dy, x + dx, row_span)
@@ -241,5 +245,4 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
         grid.row_spans[y] = row_span
         y += 1
         group_end = max(group_end, y)
-    # Cells spanning past the group's last row lengthen the table ("ending a row group").
     return max(group_end, y)
