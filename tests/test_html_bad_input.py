@@ -140,3 +140,19 @@ def test_markup_free_pages_are_empty_without_warnings() -> None:
     for data in (b"<!-- only a comment -->", b"<!DOCTYPE html>", b'<?xml version="1.0"?>'):
         doc = parse(data, "empty.html")
         assert doc.warnings == [] and doc.root.blocks == []
+
+
+@pytest.mark.parametrize(
+    ("opening", "closing"),
+    [(b"<ul><li>x", b"</li></ul>"), (b"<blockquote>q", b"</blockquote>"), (b"<dl><dt>t</dt><dd>", b"</dd></dl>")],
+    ids=["lists", "quotes", "definitions"],
+)
+def test_deeply_nested_containers_are_chunked(opening: bytes, closing: bytes) -> None:
+    # RELIABILITY P6/P7: nesting must neither crash nor lose text. Lists, quotes and definition
+    # lists deeper than MAX_BLOCK_DEPTH blocks are read as paragraphs, and the document says so.
+    from segment.adapters.html.walk import MAX_BLOCK_DEPTH
+
+    data = opening * 1000 + b"deep words" + closing * 1000
+    doc = parse(data, "nested.html")
+    assert any(str(MAX_BLOCK_DEPTH) in w for w in doc.warnings)
+    assert "deep words" in _chunk_text(data, settings=segment.Settings(max_tokens=256))

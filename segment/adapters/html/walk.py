@@ -47,6 +47,11 @@ from segment.tree import (
 
 _CONTAINER, _LIST, _DL = 0, 1, 2
 _ALERT = re.compile(r"^\[!(\w+)\][ \t]*\n?")
+MAX_BLOCK_DEPTH = 64
+"""Container blocks (lists, items, quotes, definitions) nested deeper than this are not built:
+their content is read as paragraphs and the document warns. The segmenter and the renderers
+recurse per nesting level; the Markdown adapter caps nesting near the same depth."""
+
 _ADMONITION_NAMES = ("warning", "caution", "danger", "important", "tip", "hint", "note", "attention")
 _MAX_LABEL = 80
 
@@ -67,6 +72,8 @@ class _Frame:
     line: int | None = None
     run_line: int | None = None
     parts: list[str] = field(default_factory=list)
+    counted: bool = False
+    """This frame holds a container block (list, item, quote, definitions) counted in the depth."""
 
 
 class Walker:
@@ -79,6 +86,9 @@ class Walker:
         self.skip: set[etree._Element] = set()
         self.captions: dict[etree._Element, str] = {}
         self.first_h1: str | None = None
+        self.depth = 0
+        self.flattened = False
+        """Container blocks open around the current point (lists, items, quotes, definitions)."""
 
     # ----- the loop ------------------------------------------------------------------------
 
@@ -92,6 +102,8 @@ class Walker:
             if child is None:
                 self._flush(f)
                 stack.pop()
+                if f.counted:
+                    self.depth -= 1
                 if f.finish is not None:
                     f.finish(f)
                 if stack and f.el is not None:
@@ -198,6 +210,14 @@ class Walker:
                     self._add(f.sink, table)
                     f.line = _later(f.line, table.span.lines[1] if table.span.lines else None)
                 return False
+        elif self.depth >= MAX_BLOCK_DEPTH and (
+            tag in LIST_TAGS or tag in ("dl", "blockquote", "details") or is_admonition(el)
+        ):
+            if not self.flattened:
+                self.flattened = True
+                self.doc.warnings.append(
+                    f"lists and quotes nested deeper than {MAX_BLOCK_DEPTH} blocks read as paragraphs"
+                )
         elif tag in LIST_TAGS:
             start = 1
             if tag == "ol":
@@ -253,6 +273,8 @@ class Walker:
     ) -> None:
         sink = node.blocks if isinstance(node, Quote) else None
         frame = _Frame(el, iter(el), sink, mode, node, finish, f.sink, el.sourceline, el.sourceline or f.line)
+        frame.counted = True
+        self.depth += 1
         stack.append(frame)
         self._text(frame, el.text, frame.line)
 
@@ -333,7 +355,8 @@ class Walker:
             item = ListItem()
             items.append(item)
             frame = _Frame(el, iter(el), item.blocks, node=item, finish=_finish_item,
-                           start=el.sourceline, line=el.sourceline or f.line)
+                           start=el.sourceline, line=el.sourceline or f.line, counted=True)
+            self.depth += 1
             stack.append(frame)
             self._text(frame, el.text, frame.line)
             return
@@ -373,6 +396,9 @@ class Walker:
         if tag != "dd":  # some other block inside dl: read it as part of the definition
             frame = _Frame(None, iter([el]), item.blocks, node=item, finish=_finish_item,
                            start=el.sourceline, line=el.sourceline or f.line)
+        else:
+            frame.counted = True
+            self.depth += 1
         stack.append(frame)
         if tag == "dd":
             self._text(frame, el.text, frame.line)
