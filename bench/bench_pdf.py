@@ -30,7 +30,7 @@ from pathlib import Path
 import pymupdf
 
 import segment
-from segment.adapters.pdf import PdfTimings, parse_pdf, tables
+from segment.adapters.pdf import PdfTimings, parse_pdf, rulings, tables
 from segment.adapters.pdf.extract import TEXT_FLAGS, page_lines
 from segment.adapters.pdf.headings import norm
 
@@ -75,8 +75,8 @@ def prove(path: Path) -> tuple[int, int, int, int, int, int]:
     ref_n = on_cand = found = rows = same = extra = 0
     with pymupdf.open(path) as doc:
         for index, page in enumerate(doc):
-            r = tables.rulings(page)
-            candidate = tables.is_candidate(r)
+            r = rulings.rulings(page)
+            candidate = rulings.is_candidate(r)
             ours, _ = tables.find_page_tables(page, index + 1, page_lines(page, index + 1), "own", r)
             refs = page.find_tables().tables
             if not refs:

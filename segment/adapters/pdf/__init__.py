@@ -7,14 +7,13 @@ pymupdf is not thread-safe: call this from one thread per process only.
 
 from __future__ import annotations
 
-import logging
 import time
 from dataclasses import dataclass, field
 
 import pymupdf
 
 from segment.adapters.pdf import blocks as blk
-from segment.adapters.pdf import extract, headings, layout, running, tables
+from segment.adapters.pdf import extract, headings, layout, lists, rulings, running, tables
 from segment.adapters.pdf.build import build_tree
 from segment.adapters.pdf.extract import Line, page_lines
 from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
@@ -87,7 +86,7 @@ def _parse_open(
     pages: list[list[Line]] = []
     heights: list[float] = []
     no_text: list[int] = []
-    page_rulings: list[tables.Rulings] = []
+    page_rulings: list[rulings.Rulings] = []
     textpages: dict[int, tuple[pymupdf.Page, pymupdf.TextPage]] = {}
     rule_time = 0.0
     for index in range(doc.page_count):
@@ -101,9 +100,9 @@ def _parse_open(
             warnings.append(f"page {index + 1}: cannot read text ({exc})")
             lines, textpage = [], None
         ts = time.process_time()
-        r = tables.rulings_from_vectors(vectors or [], page.rect.width, page.rect.height)
+        r = rulings.rulings_from_vectors(vectors or [], page.rect.width, page.rect.height)
         page_rulings.append(r)
-        if textpage is not None and tables.is_candidate(r):
+        if textpage is not None and rulings.is_candidate(r):
             textpages[index] = (page, textpage)  # kept for the word boxes of the table stage
         rule_time += time.process_time() - ts
         if not lines:
@@ -118,7 +117,7 @@ def _parse_open(
     t1 = time.process_time()
 
     ts = time.process_time()
-    grids = [tables.grid_boxes(r) for r in page_rulings]
+    grids = [rulings.grid_boxes(r) for r in page_rulings]
     table_time = time.process_time() - ts + rule_time
     removed = running.find_running(pages, heights, grids)
     table_pages = 0
@@ -126,7 +125,7 @@ def _parse_open(
     for index, lines in enumerate(pages):
         body = [ln for ln in lines if "running" not in ln.flags]
         if page_rulings[index].frames or page_rulings[index].v:
-            tables.mark_framed(body, page_rulings[index])
+            rulings.mark_framed(body, page_rulings[index])
         if table_engine != "none" and body:
             ts = time.process_time()
             page, textpage = textpages.pop(index, (doc[index], None))
@@ -137,7 +136,7 @@ def _parse_open(
             body = _place_tables(body, found)
             table_time += time.process_time() - ts
         for block in layout.order_page(body):
-            for part in blk.split_items(block) if block.payload is None else [block]:
+            for part in lists.split_items(block) if block.payload is None else [block]:
                 flows.append(part)  # type: ignore[arg-type]
     t2 = time.process_time()
 

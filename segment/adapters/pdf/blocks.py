@@ -1,8 +1,7 @@
-"""Blocks in reading order classified as text, list item, code or table; text joined across lines.
+"""Blocks in reading order classified as text, list item, code, definitions or table; text joined
+across lines; code, tables and paragraphs cut by page or column breaks joined back.
 
-List items start with a bullet or a number and hang their following lines under the item text.
-Code is a run of lines set almost entirely in a monospaced font; its indentation is rebuilt from
-the x offsets. Words broken with a hyphen at a line end are joined back when the joined word is
+List markers live in `lists`, code layout in `code`. Words broken with a hyphen at a line end are joined back when the joined word is
 used elsewhere in the document, or when the hyphen is a soft hyphen (U+00AD).
 """
 
@@ -10,15 +9,13 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-from statistics import median
-
+from segment.adapters.pdf.code import code_lines
 from segment.adapters.pdf.extract import Line
 from segment.adapters.pdf.layout import TextBlock
+from segment.adapters.pdf.lists import marker as _marker
+from segment.adapters.pdf.lists import marker_is_mono as _marker_is_mono
 
-_BULLET = re.compile(r"^\s*([•◦▪▫‣⁃∙●○■□►▸▹➢➤✓✔∗–—\-\*·])\s+(?=\S)")
-_NUMBERED = re.compile(r"^\s*(\(?(\d{1,3}|[a-z]|[ivx]{1,5})[.)])\s+(?=\S)")
 _WORD = re.compile(r"[^\W\d_]+")
-_ROMAN = {"i": 1, "v": 5, "x": 10}
 
 
 @dataclass(slots=True)
@@ -125,57 +122,6 @@ def join_lines(lines: list[str], vocab: set[str]) -> str:
     return out.replace("\u00ad", "")
 
 
-def _marker(text: str) -> tuple[str, bool, int] | None:
-    """(marker, ordered, number) when the text starts a list item."""
-    m = _BULLET.match(text)
-    if m:
-        return m.group(0), False, 1
-    m = _NUMBERED.match(text)
-    if m:
-        token = m.group(2)
-        if token.isdigit():
-            return m.group(0), True, int(token)
-        if len(token) == 1 and token not in "ivx":
-            return m.group(0), True, ord(token) - ord("a") + 1
-        return m.group(0), True, _roman(token)
-    return None
-
-
-def _roman(token: str) -> int:
-    total = prev = 0
-    for ch in reversed(token):
-        value = _ROMAN[ch]
-        total = total - value if value < prev else total + value
-        prev = max(prev, value)
-    return max(total, 1)
-
-
-def _marker_is_mono(line: Line) -> bool:
-    for piece in line.pieces:
-        if piece.text.strip():
-            return piece.mono
-    return False
-
-
-def split_items(block: TextBlock) -> list[TextBlock]:
-    """Cut a block before every line that starts a list item at the block's marker position."""
-    parts: list[TextBlock] = []
-    marker_x: float | None = None
-    for line in block.lines:
-        marked = _marker(line.text) is not None
-        if not parts:
-            parts.append(TextBlock([line], block.column))
-            marker_x = line.x0 if marked else None
-        elif marked and marker_x is not None and abs(line.x0 - marker_x) <= 2.5:
-            parts.append(TextBlock([line], block.column))
-        elif marked and marker_x is None and _BULLET.match(line.text):
-            parts.append(TextBlock([line], block.column))
-            marker_x = line.x0
-        else:
-            parts[-1].lines.append(line)
-    return parts
-
-
 def classify(block: TextBlock, vocab: set[str]) -> Item:
     """Decide what one block is and compute its text."""
     if block.payload is not None:
@@ -234,25 +180,6 @@ def _pairs(lines: list[Line], vocab: set[str]) -> list[tuple[str, str]]:
         else:
             out.append((ln.text.strip(), []))
     return [(key, join_lines(parts, vocab)) for key, parts in out]
-
-
-def code_lines(lines: list[Line]) -> list[str]:
-    """Code text with indentation rebuilt from x offsets (one space per character width)."""
-    widths = [
-        (p.x1 - p.x0) / len(p.text)
-        for ln in lines[:40]  # a sample is enough for the character width
-        for p in ln.pieces
-        if p.mono and len(p.text) >= 2 and p.x1 > p.x0
-    ]
-    char_w = median(widths) if widths else 5.0
-    left = min(ln.x0 for ln in lines)
-    out: list[str] = []
-    for ln in lines:
-        indent = int(round((ln.x0 - left) / char_w)) if char_w > 0 else 0
-        text = ln.text.rstrip()
-        lead = len(text) - len(text.lstrip())  # spaces the PDF kept as characters
-        out.append(" " * max(0, min(indent + lead, 80)) + text.lstrip())
-    return out
 
 
 def merge_code(items: list[Item]) -> list[Item]:
