@@ -11,10 +11,10 @@ The rule, in order:
 2. The main content is the first `main`, else the first `role="main"`, if it holds at least 30%
    of the page's non-link text (an empty placeholder `main` filled by scripts does not count),
    else a lone `article` (several articles: their common parent) holding at least half of it,
-   else the result of descending from `body` while one
-   wrapper child (`div`, `section`, `span`, a layout `td`...) holds at least 90% of the remaining
-   non-link text and every heading (so a page without landmarks keeps all its headed content,
-   and sidebars of links fall away).
+   else the result of descending from `body` while one wrapper child (`div`, `section`,
+   `article`, `center`) holds at least 90% of the remaining non-link text and every
+   heading (so a page without landmarks keeps all its headed content, and sidebars of links
+   fall away).
 3. Permalink marks outside headings (a `¶` after a table caption or an API entry's term) are
    dropped; inside headings the heading pass strips them and reads the anchor from them.
 4. Inline markers for the text pass: `<br>` becomes a line-break marker (a newline inside
@@ -39,10 +39,9 @@ from segment.adapters.html.tags import (
 )
 from segment.adapters.html.text import is_permalink
 
-
 LANDMARK_SHARE = 0.3
-"""A `main`/`article` landmark is used only when it holds this share of the page's non-link text
-(a script-filled `<main></main>` placeholder must not empty the page)."""
+"""A `main` landmark is used only when it holds this share of the page's text (a script-filled
+`<main></main>` placeholder must not empty the page)."""
 
 ARTICLE_SHARE = 0.5
 """An `article` is a weaker mark (cards, teasers, comments): it must hold half the text."""
@@ -266,14 +265,12 @@ def _densest(body: etree._Element) -> etree._Element:
     return node
 
 
-_WRAPPER_TAGS = frozenset({"div", "section", "article", "main", "center", "td"})
+_WRAPPER_TAGS = frozenset({"div", "section", "article", "main", "center"})
 """Elements the heuristic may descend into: generic block wrappers, never a table, list or code
 block, nor an inline element."""
 
 _ALL_TEXT = etree.XPath(".//text()", smart_strings=False)
 _LINK_TEXT = etree.XPath(".//a//text()", smart_strings=False)
-
-
 _NOT_COUNTED = " \t\n\r\f" + BREAK
 
 
