@@ -111,3 +111,34 @@ def test_key_value_rows_are_not_columns() -> None:
     assert find_gutters(lines) == []
     blocks = order_page(lines)
     assert blocks[0].lines[0].text.startswith("key0") and "what key 0" in blocks[0].lines[0].text
+
+
+def test_vector_figure_labels_stay_together() -> None:
+    # A two-column page with a drawn chart in the left column: its tick labels must not break
+    # the columns or scatter through the text (pymupdf draws the page; common practice layout).
+    import pymupdf
+
+    from segment.adapters.pdf import parse_pdf
+    from segment.tree import Paragraph
+
+    doc = pymupdf.open()
+    page = doc.new_page(width=595, height=842)
+    prose = "Each dock reports its charge state every minute and the planner uses it. " * 6
+    page.insert_textbox(pymupdf.Rect(50, 60, 290, 300), prose, fontsize=10)
+    right = "Pads on the roof are cleared of snow before the first departure of the day. " * 6
+    page.insert_textbox(pymupdf.Rect(310, 60, 550, 780), (right + "\n") * 5, fontsize=10)
+    for i in range(12):  # a curve of twelve strokes with an axis box
+        page.draw_bezier((60 + i * 18, 500 - i * 9), (66 + i * 18, 480), (70 + i * 18, 520), (78 + i * 18, 495 - i * 8))
+    page.draw_rect(pymupdf.Rect(55, 400, 285, 560))
+    for i, label in enumerate(["0", "10", "20", "30", "40"]):
+        page.insert_text((60 + i * 50, 575), label, fontsize=7)
+    page.insert_text((130, 395), "Charge over a shift", fontsize=7)
+    page.insert_textbox(pymupdf.Rect(50, 600, 290, 780), prose, fontsize=10)
+    parsed = parse_pdf(doc.tobytes(), "chart.pdf", use_outline=False)
+    texts = [b.text for _, s in parsed.walk() for b in s.blocks if isinstance(b, Paragraph)]
+    labels = [t for t in texts if t.startswith("Charge over a shift")]
+    assert labels == ["Charge over a shift 0 10 20 30 40"]
+    left = [i for i, t in enumerate(texts) if t.startswith("Each dock reports")]
+    right_first = next(i for i, t in enumerate(texts) if t.startswith("Pads on the roof"))
+    # Column by column: the whole left column (text, figure labels, text) before the right one.
+    assert len(left) == 2 and left[0] < texts.index(labels[0]) < left[1] < right_first

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 import pymupdf
 
 from segment.adapters.pdf import blocks as blk
-from segment.adapters.pdf import extract, headings, layout, lists, rulings, running, tables
+from segment.adapters.pdf import extract, figures, headings, layout, lists, rulings, running, tables
 from segment.adapters.pdf.build import build_tree
 from segment.adapters.pdf.extract import Line, page_lines
 from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
@@ -87,6 +87,7 @@ def _parse_open(
     heights: list[float] = []
     no_text: list[int] = []
     page_rulings: list[rulings.Rulings] = []
+    page_figures: list[list[figures.Box]] = []
     textpages: dict[int, tuple[pymupdf.Page, pymupdf.TextPage]] = {}
     rule_time = 0.0
     for index in range(doc.page_count):
@@ -102,6 +103,7 @@ def _parse_open(
         ts = time.process_time()
         r = rulings.rulings_from_vectors(vectors or [], page.rect.width, page.rect.height)
         page_rulings.append(r)
+        page_figures.append(figures.figure_boxes(vectors or [], page.rect.width * page.rect.height))
         if textpage is not None and rulings.is_candidate(r):
             textpages[index] = (page, textpage)  # kept for the word boxes of the table stage
         rule_time += time.process_time() - ts
@@ -135,6 +137,8 @@ def _parse_open(
             table_pages += int(candidate)
             body = _place_tables(body, found)
             table_time += time.process_time() - ts
+        body, labels = figures.take_labels(body, page_figures[index], index + 1)
+        body = body + [_stand_in(f.page, f.bbox, f) for f in labels]
         for block in layout.order_page(body):
             for part in lists.split_items(block) if block.payload is None else [block]:
                 flows.append(part)  # type: ignore[arg-type]
@@ -196,11 +200,14 @@ def _place_tables(lines: list[Line], found: list[tables.FoundTable]) -> list[Lin
         if any(t.bbox[0] - 1 <= cx <= t.bbox[2] + 1 and t.bbox[1] - 1 <= cy <= t.bbox[3] + 1 for t in found):
             continue
         kept.append(ln)
-    for t in found:
-        x0, y0, x1, y1 = t.bbox
-        stand_in = Line(t.page, x0, y0, x1, y1, [], -1000)
-        stand_in.flags.add("table")
-        stand_in.payload = t
-        stand_in.size = 0.0
-        kept.append(stand_in)
+    kept.extend(_stand_in(t.page, t.bbox, t) for t in found)
     return kept
+
+
+def _stand_in(page: int, bbox: tuple[float, float, float, float], payload: object) -> Line:
+    """A line that holds a table's or a figure's place in the reading order."""
+    x0, y0, x1, y1 = bbox
+    line = Line(page, x0, y0, x1, y1, [], -1000)
+    line.flags.add("table")
+    line.payload = payload
+    return line

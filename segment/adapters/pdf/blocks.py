@@ -11,6 +11,7 @@ import re
 from dataclasses import dataclass, field
 from segment.adapters.pdf.code import code_lines
 from segment.adapters.pdf.extract import Line
+from segment.adapters.pdf.figures import FigureText
 from segment.adapters.pdf.layout import TextBlock
 from segment.adapters.pdf.lists import marker as _marker
 from segment.adapters.pdf.lists import marker_is_mono as _marker_is_mono
@@ -124,6 +125,8 @@ def join_lines(lines: list[str], vocab: set[str]) -> str:
 
 def classify(block: TextBlock, vocab: set[str]) -> Item:
     """Decide what one block is and compute its text."""
+    if isinstance(block.payload, FigureText):
+        return Item("text", [block], text=block.payload.text, notes="figure")
     if block.payload is not None:
         return Item("table", [block])
     lines = block.lines
