@@ -84,6 +84,7 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--copies", type=int, default=10)
     parser.add_argument("--saves", type=int, default=40)
+    parser.add_argument("--repeat", type=int, default=2, help="best of N for raw and first builds")
     args = parser.parse_args()
     if not CORPUS.is_dir():
         raise SystemExit(f"shared corpus not found at {CORPUS}")
@@ -95,11 +96,22 @@ def main() -> None:
         size_mb = sum(p.stat().st_size for p in src.rglob("*") if p.is_file()) / 1e6
         settings = Settings()
         raw(src, settings)  # warm the page cache and the parsers once
-        t_raw = raw(src, settings)
+        # Best of --repeat runs, interleaved, so a burst of load on a shared machine hits all alike.
+        t_raw = t1 = t2 = float("inf")
+        for i in range(args.repeat):
+            t_raw = min(t_raw, raw(src, settings))
+            for jobs in (1, 2):
+                out = work / f"first{jobs}-{i}"
+                t, parsed1 = timed_build(src, out, jobs=jobs)
+                if jobs == 1:
+                    t1 = min(t1, t)
+                else:
+                    t2 = min(t2, t)
+                if i < args.repeat - 1 or jobs == 2:
+                    shutil.rmtree(out)
+        shutil.move(work / f"first1-{args.repeat - 1}", work / "out1")
         rows.append((f"raw library, 1 process ({files} files, {size_mb:.1f} MB)", f"{t_raw:.2f} s", "1.00x"))
-        t1, parsed1 = timed_build(src, work / "out1", jobs=1)
         rows.append((f"first build --jobs 1 ({parsed1} files re-segmented)", f"{t1:.2f} s", f"{t1 / t_raw:.2f}x raw"))
-        t2, _ = timed_build(src, work / "out2", jobs=2)
         rows.append(("first build --jobs 2", f"{t2:.2f} s", f"{t1 / t2:.2f}x faster than --jobs 1"))
         r1, p1 = timed_build(src, work / "out1", jobs=1)
         rows.append((f"unchanged rebuild ({p1} files re-segmented)", f"{r1:.2f} s",
