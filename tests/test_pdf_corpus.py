@@ -320,3 +320,17 @@ def test_reference_card_keys_become_definitions(corpus: dict[str, Parsed]) -> No
     assert pairs["quit or exit"] == "exit Octave"
     starting = next(s for _, s in parsed.outline.walk() if s.heading and s.heading.text == "Starting Octave")
     assert isinstance(starting.blocks[0], DefinitionList)
+
+
+def test_admonitions_become_labelled_quotes(corpus: dict[str, Parsed]) -> None:
+    # debian-reference.en.pdf (DocBook) sets "Warning" / "Note" / "Tip" above the admonition's
+    # text; like a Markdown alert (GitHub "[!WARNING]") it becomes a quote with that label.
+    from segment.tree import Quote
+
+    parsed = corpus.get("debian-reference.en.pdf") or pytest.skip("not in the corpus")
+    quotes = [b for _, s in parsed.outline.walk() for b in s.blocks if isinstance(b, Quote)]
+    labels = Counter(q.label for q in quotes)
+    assert labels["Warning"] >= 10 and labels["Note"] >= 10 and labels["Tip"] >= 10
+    root = next(s for _, s in parsed.outline.walk() if s.heading and s.heading.text.endswith("The root account"))
+    warning = next(b for b in root.blocks if isinstance(b, Quote) and b.label == "Warning")
+    assert warning.blocks[0].text == "Never share the root password with others."  # type: ignore[union-attr]

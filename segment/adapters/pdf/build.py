@@ -13,6 +13,7 @@ from segment.tree import (
     ListBlock,
     ListItem,
     Paragraph,
+    Quote,
     Row,
     SectionBuilder,
     Span,
@@ -41,12 +42,31 @@ def table_node(found: FoundTable) -> Table:
     return Table(header=header, rows=rows, span=Span(pages=pages, bbox=bbox))  # type: ignore[arg-type]
 
 
+ADMONITIONS = {"note", "tip", "warning", "caution", "important", "hint", "danger", "attention"}
+"""Labels that open an admonition box in manuals (DocBook, Sphinx): common practice."""
+
+
 def build_tree(document: Document, items: list[Item]) -> None:
     """Fill `document.root` from the flow of items."""
     builder = SectionBuilder(document.root)
     open_list: list[tuple[float, ListBlock]] = []
+    pending_label: tuple[str, Item] | None = None
     for item in items:
         if item.label:
+            continue
+        if pending_label is not None:
+            label, label_item = pending_label
+            pending_label = None
+            node = _node(item) if item.level is None and item.kind != "item" else None
+            if node is not None and item.first.page == label_item.first.page:
+                # "Warning" on its own line, then the warning: one quote, like a Markdown alert.
+                span = item_span(label_item).merge(node.span)
+                open_list.clear()
+                builder.add(Quote(blocks=[node], label=label, span=span))
+                continue
+            builder.add(Paragraph(text=label_item.text.strip(), span=item_span(label_item)))
+        if item.kind == "text" and item.level is None and item.text.strip().casefold() in ADMONITIONS:
+            pending_label = (item.text.strip().capitalize(), item)
             continue
         if item.level is not None:
             open_list.clear()
@@ -68,6 +88,8 @@ def build_tree(document: Document, items: list[Item]) -> None:
             continue
         open_list.clear()
         builder.add(node)
+    if pending_label is not None:
+        builder.add(Paragraph(text=pending_label[1].text.strip(), span=item_span(pending_label[1])))
     finish_spans(document.root)
 
 

@@ -107,7 +107,7 @@ class Line:
                 continue
             total += n
             if not p.superscript:
-                key = round(p.size * 2) / 2
+                key = int(p.size * 2 + 0.5) / 2
                 sizes[key] = sizes.get(key, 0) + n
             if p.bold:
                 bold += n

@@ -48,19 +48,15 @@ class Word:
     y1: float
     text: str
     key: tuple[int, int, int]
-    cx: float = 0.0
-    cy: float = 0.0
-
-    def __post_init__(self) -> None:
-        self.cx = (self.x0 + self.x1) / 2
-        self.cy = (self.y0 + self.y1) / 2
+    cx: float
+    cy: float
 
 
 def page_words(page: pymupdf.Page, textpage: pymupdf.TextPage | None = None) -> list[Word]:
     """Words of the page (only called on candidate pages)."""
     return [
-        Word(w[0], w[1], w[2], w[3], normalise_text(w[4]), (w[5], w[6], w[7]))
-        for w in page.get_text("words", flags=TEXT_FLAGS, textpage=textpage)
+        Word(x0, y0, x1, y1, normalise_text(t), (b, ln, n), (x0 + x1) / 2, (y0 + y1) / 2)
+        for x0, y0, x1, y1, t, b, ln, n in page.get_text("words", flags=TEXT_FLAGS, textpage=textpage)
     ]
 
 
