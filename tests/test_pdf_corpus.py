@@ -334,3 +334,24 @@ def test_admonitions_become_labelled_quotes(corpus: dict[str, Parsed]) -> None:
     root = next(s for _, s in parsed.outline.walk() if s.heading and s.heading.text.endswith("The root account"))
     warning = next(b for b in root.blocks if isinstance(b, Quote) and b.label == "Warning")
     assert warning.blocks[0].text == "Never share the root password with others."  # type: ignore[union-attr]
+
+
+LIGATURES = re.compile("[\ufb00-\ufb06]")
+
+
+@pytest.mark.parametrize("name", NAMES)
+def test_no_ligature_characters_left(corpus: dict[str, Parsed], name: str) -> None:
+    # Unicode compatibility ligatures (U+FB00-FB06, e.g. "ﬁ" in refcard-a4.pdf's "ﬁle") are
+    # folded to their letters (NFKC, Unicode Standard Annex #15), so searches for "file" match.
+    parsed = corpus[name]
+    assert not any(LIGATURES.search(c.text) for c in parsed.chunks)
+
+
+def test_words_broken_at_line_ends_are_joined(corpus: dict[str, Parsed]) -> None:
+    # policy.pdf breaks "dis-/tribution" and similar at line ends; the joined words are in the
+    # chunks and the broken halves are not.
+    parsed = corpus.get("policy.pdf") or pytest.skip("policy.pdf not in the corpus")
+    text = " ".join(c.text for c in parsed.chunks)
+    assert "distribution" in text
+    broken = re.findall(r"\b[a-z]{3,}- [a-z]{3,}\b", text)
+    assert len(broken) <= 20, broken[:10]

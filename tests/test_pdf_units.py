@@ -49,8 +49,9 @@ def test_soft_hyphen_always_joins() -> None:
     assert join_lines(["recali\u00ad", "bration done"], set()) == "recalibration done"
 
 
-def test_capitalised_continuation_keeps_hyphen() -> None:
-    assert join_lines(["North-", "West corridor"], {"northwest"}) == "North-West corridor"
+def test_capitalised_continuation_follows_the_same_rule() -> None:
+    assert join_lines(["the North-", "West corridor"], {"the", "corridor"}) == "the North-West corridor"
+    assert join_lines(["journal (MN-", "RAS) style"], {"mnras"}) == "journal (MNRAS) style"
 
 
 @pytest.mark.parametrize(

@@ -108,16 +108,14 @@ def join_lines(lines: list[str], vocab: set[str]) -> str:
             continue
         if out.endswith("\u00ad"):
             out = out[:-1] + text
-        elif out.endswith(("-", "\u2010")) and len(out) > 1 and out[-2].isalpha() and text[:1].islower():
+        elif out.endswith(("-", "\u2010")) and len(out) > 1 and out[-2].isalpha() and text[:1].isalpha():
             head = _WORD.findall(out[:-1])
             tail = _WORD.findall(text)
             joined = (head[-1] if head else "") + (tail[0] if tail else "")
             if joined.lower() in vocab:
-                out = out[:-1] + text
+                out = out[:-1] + text  # "infor-" + "mation", "MN-" + "RAS"
             else:
-                out = out + text
-        elif out.endswith(("-", "\u2010")) and len(out) > 1 and out[-2].isalpha() and text[:1].isupper():
-            out = out + text  # a compound broken at its own hyphen: "North-" + "West"
+                out = out + text  # a compound broken at its own hyphen: "state-" + "of-the-art"
         else:
             out = out + " " + text
     return out.replace("\u00ad", "")

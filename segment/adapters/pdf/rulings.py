@@ -20,6 +20,9 @@ TOL = 2.0
 MAX_SEGMENTS = 3000
 """Pages with more rulings than this are vector figures, not tables: skipped."""
 
+MAX_FRAMES = 500
+"""At most this many frames per page are checked (a form or calendar grid has thousands)."""
+
 Box = tuple[float, float, float, float]
 
 
@@ -151,7 +154,7 @@ def mark_framed(lines: list[Line], r: Rulings) -> None:  # noqa: C901
                 ys = cluster([r.h[i][0] for i in hs], 4.0)
                 if len(xs) == 2 and len(ys) == 2:
                     frames.append((xs[0], ys[0], xs[1], ys[1]))
-    for x0, y0, x1, y1 in frames:
+    for x0, y0, x1, y1 in frames[:MAX_FRAMES]:
         if x1 - x0 < 20 or y1 - y0 < 8:
             continue
         for ln in lines:
