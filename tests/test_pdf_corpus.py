@@ -196,13 +196,15 @@ WORD = re.compile(r"\w+")
 @pytest.mark.parametrize("name", NAMES)
 def test_body_words_present(corpus: dict[str, Parsed], name: str) -> None:
     # Reference: every word pymupdf's get_text("words") finds on every page, minus the words of
-    # the lines we removed as running heads (counted in the debug view).
+    # the most repeated running lines (the debug view lists them as "text (xN)").
     parsed = corpus[name]
     with pymupdf.open(parsed.path) as doc:
         ref = Counter(w.casefold() for page in doc for w4 in page.get_text("words") for w in WORD.findall(w4[4]))
-    removed = Counter(
-        w.casefold() for text in parsed.outline.metadata.get("running_line_texts", []) for w in WORD.findall(text)
-    )
+    removed: Counter[str] = Counter()
+    for sample in parsed.outline.metadata["running_line_samples"]:
+        text, _, count = sample.rpartition(" (x")
+        for w in WORD.findall(text):
+            removed[w.casefold()] += int(count.rstrip(")"))
     ref.subtract(removed)
     ref = +ref
     got = Counter(w.casefold() for c in parsed.chunks for w in WORD.findall(c.text))

@@ -8,6 +8,7 @@ pymupdf is not thread-safe: call this from one thread per process only.
 from __future__ import annotations
 
 import time
+from collections import Counter
 from dataclasses import dataclass, field
 
 import pymupdf
@@ -169,8 +170,7 @@ def _parse_open(
         {
             "pages": doc.page_count,
             "removed_running_lines": len(removed),
-            "running_line_samples": sorted({" ".join(ln.text.split()) for ln in removed})[:12],
-            "running_line_texts": [" ".join(ln.text.split()) for ln in removed],
+            "running_line_samples": _samples(removed),
             "body_font_size": stats.body_size,
             "headings_from": "outline" if toc else "fonts",
             "outline_entries": len(toc),
@@ -188,6 +188,12 @@ def _parse_open(
         timings.layout = (t2 - t1 - (table_time - rule_time)) + (t3 - t2)
         timings.table_pages = table_pages
     return document
+
+
+def _samples(removed: list[Line], limit: int = 12) -> list[str]:
+    """The most repeated running lines, as "text (xN)", for the debug view."""
+    counts = Counter(" ".join(ln.text.split()) for ln in removed)
+    return [f"{text} (x{n})" for text, n in counts.most_common(limit)]
 
 
 def _place_tables(lines: list[Line], found: list[tables.FoundTable]) -> list[Line]:
