@@ -117,6 +117,29 @@ def fostered_text(table: etree._Element) -> str:
     return collapse("".join(parts))
 
 
+def outside_caption(el: etree._Element, tag: str) -> tuple[etree._Element, str, etree._Element] | None:
+    """A caption written outside its table: `figure > figcaption` around one table, or DocBook's
+    `div.table > p.title`. Returns (table, caption text, caption element)."""
+    if tag != "figure" and not (tag == "div" and "table" in (el.get("class") or "")):
+        return None
+    first = next((c for c in el if isinstance(c.tag, str)), None)
+    if first is None:
+        return None
+    if tag == "figure":
+        cap = next((c for c in el if tag_of(c) == "figcaption"), None)
+        tables = [c for c in el if tag_of(c) == "table"]
+        if cap is not None and len(tables) == 1:
+            return tables[0], flat_text(cap), cap
+        return None
+    classes = set((el.get("class") or "").lower().split())
+    first_classes = set((first.get("class") or "").lower().split())
+    if classes & {"table", "informaltable"} and tag_of(first) == "p" and "title" in first_classes:
+        table = next(el.iter("table"), None)
+        if table is not None:
+            return table, flat_text(first), first
+    return None
+
+
 def _row_stray(tr: etree._Element) -> list[str]:
     out = [tr.text or ""]
     for cell in tr:

@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-import re
 from lxml import etree
 
 from segment.adapters.html.tags import BLOCK_TAGS, BREAK, PERMALINK_CLASSES, PERMALINK_TEXTS, class_tokens
+
 
 def collapse(raw: str, breaks: bool = True) -> str:
     """Collapse whitespace runs to one space; `<br>` markers become `\n` (or a space).

@@ -17,15 +17,14 @@ from typing import Any
 
 from lxml import etree
 
-from segment.adapters.html.leaves import code_block, gutter_code, heading_text
-from segment.adapters.html.tables import build_table, fostered_text, table_kind
+from segment.adapters.html.leaves import admonition_label, code_block, gutter_code, heading_text
+from segment.adapters.html.tables import build_table, fostered_text, outside_caption, table_kind
 from segment.adapters.html.tags import (
     BLOCK_TAGS,
     HEADING_TAGS,
     LIST_TAGS,
     PARAGRAPH_TAGS,
     PRE_TAGS,
-    class_tokens,
     heading_level,
     is_admonition,
     tag_of,
@@ -52,8 +51,6 @@ MAX_BLOCK_DEPTH = 64
 their content is read as paragraphs and the document warns. The segmenter and the renderers
 recurse per nesting level; the Markdown adapter caps nesting near the same depth."""
 
-_ADMONITION_NAMES = ("warning", "caution", "danger", "important", "tip", "hint", "note", "attention")
-_MAX_LABEL = 80
 
 Sink = list[Block] | None
 """Where blocks go: a container's block list, or None for the section flow."""
@@ -279,39 +276,17 @@ class Walker:
         self._text(frame, el.text, frame.line)
 
     def _mark_captions(self, el: etree._Element, tag: str) -> None:
-        """Captions outside the table: `figure > figcaption`, DocBook's `div.table > p.title`."""
-        if tag != "figure" and not (tag == "div" and "table" in (el.get("class") or "")):
-            return
-        first = next((c for c in el if isinstance(c.tag, str)), None)
-        if first is None:
-            return
-        if tag == "figure":
-            cap = next((c for c in el if tag_of(c) == "figcaption"), None)
-            tables = [c for c in el if tag_of(c) == "table"]
-            if cap is not None and len(tables) == 1:
-                self.captions[tables[0]] = flat_text(cap)
-                self.skip.add(cap)
-        elif tag == "div" and class_tokens(el) & {"table", "informaltable"} and tag_of(first) == "p" \
-                and "title" in class_tokens(first):
-            table = next(el.iter("table"), None)
-            if table is not None:
-                self.captions[table] = flat_text(first)
-                self.skip.add(first)
+        found = outside_caption(el, tag)
+        if found is not None:
+            table, text, caption_el = found
+            self.captions[table] = text
+            self.skip.add(caption_el)
 
     def _admonition_label(self, el: etree._Element) -> str | None:
-        first = next((c for c in el if isinstance(c.tag, str)), None)
-        if first is not None:
-            tag = tag_of(first)
-            if tag in HEADING_TAGS or tag == "summary" or any("title" in t for t in class_tokens(first)):
-                label = flat_text(first)
-                if label and len(label) <= _MAX_LABEL:
-                    self.skip.add(first)
-                    return label
-        classes = class_tokens(el)
-        for name in _ADMONITION_NAMES:
-            if name in classes:
-                return name.capitalize()
-        return None
+        label, title_el = admonition_label(el)
+        if title_el is not None:
+            self.skip.add(title_el)
+        return label
 
     # ----- headings ------------------------------------------------------------------------
 
