@@ -113,6 +113,11 @@ class Syncer:
         self._check_root()
         on_disk = self.scope.scan()
         rows = self.store.all()
+        if rows and not on_disk and not full:
+            raise SourceEmpty(
+                f"{self.src}: source folder holds none of the {len(rows)} files in the output "
+                "(an unmounted share?); nothing was deleted. A full build (--full) accepts "
+                "that they are gone")
         report = self._sync(on_disk, rows, force=full, progress=progress)
         report.deleted += self._remove_orphans(set(self.store.all()) | set(on_disk))
         with self.store.transaction():
@@ -394,6 +399,10 @@ def closing_iter(gen: Generator[Outcome, None, None]) -> Iterator[Outcome]:
 
 class SourceMissing(RuntimeError):
     """SRC is gone or not a folder: nothing is deleted from OUT (RELIABILITY W9)."""
+
+
+class SourceEmpty(SourceMissing):
+    """SRC holds none of the files OUT has (an empty mount point): nothing is deleted (W9)."""
 
 
 @dataclass(slots=True)

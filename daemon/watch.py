@@ -41,7 +41,7 @@ from daemon.events import (
     watch_limit_exceeded,
 )
 from daemon.scope import COOKIE_PREFIX
-from daemon.sync import SourceMissing, SyncReport, Syncer
+from daemon.sync import SourceEmpty, SourceMissing, SyncReport, Syncer
 
 log = logging.getLogger(__name__)
 
@@ -130,6 +130,11 @@ class WatchLoop:
                 report = self.syncer.sync_paths(batch.files, batch.folders)
                 self.report.merge(report)
                 log.info("%s", report.line("batch"))
+        except SourceEmpty as exc:
+            if self.degraded != "root_empty":
+                log.error("%s; paused until files are back", exc)
+            self._set_degraded("root_empty")
+            self._last_full = self.clock() - self.rescan_s + min(WRITE_RETRY_S, self.rescan_s)
         except SourceMissing as exc:
             if self.degraded != "root_missing":
                 log.error("%s; paused until it is back", exc)
@@ -142,7 +147,7 @@ class WatchLoop:
             self._last_full = self.clock() - self.rescan_s + WRITE_RETRY_S
             return  # the barriers wait for the retry
         else:
-            if self.degraded == "write_error" and batch.full:
+            if self.degraded in ("write_error", "root_empty") and batch.full:
                 self._set_degraded("")
         self._release(batch.cookies)
 

@@ -11,13 +11,15 @@ read as "every document was deleted".
 
 from __future__ import annotations
 
+import os
 import threading
 import time
+from collections.abc import Callable
 from pathlib import Path
 
 import pytest
 
-from daemon import Watcher, reconcile
+from daemon import Watcher, read_status, reconcile
 from daemon.commands import run_build
 from segment.settings import Settings
 from tests import hostile
@@ -71,9 +73,9 @@ def run_copy(tmp_path: Path, quiet_ms: int, pause_s: float) -> tuple[list[bytes]
 
 @pytest.mark.timeout(120)
 def test_a_copy_faster_than_the_quiet_period_is_parsed_once_whole(tmp_path: Path) -> None:
-    # Pieces 50 ms apart under the default 200 ms quiet period (the W6 recipe says 100 ms; half
-    # that leaves room for a loaded machine, and the whole copy stays under the 2 s longest wait).
-    seen, final = run_copy(tmp_path, quiet_ms=200, pause_s=0.05)
+    # Pieces 50 ms apart under a 500 ms quiet period (the W6 recipe: 100 ms under 200 ms; the
+    # wider margin keeps a loaded CI machine from stretching a pause past the quiet period).
+    seen, final = run_copy(tmp_path, quiet_ms=500, pause_s=0.05)
     assert seen and seen[-1] == final
     assert all(version == final for version in seen), f"{len(seen)} versions seen, partial ones emitted"
 
@@ -90,16 +92,50 @@ def test_a_copy_slower_than_the_quiet_period_never_emits_a_partial_version(tmp_p
 
 
 @pytest.mark.timeout(60)
-@pytest.mark.xfail(strict=True, reason=(
-    "gap (RELIABILITY W9): no mass-delete guard; an emptied root (e.g. an unmounted share's "
-    "mount point) deletes every chunk and announces every id as deleted"))
-def test_an_emptied_root_does_not_delete_every_chunk(tmp_path: Path) -> None:
+def test_an_emptied_root_does_not_delete_every_chunk(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    # RELIABILITY W9: "more than X % of files vanish in one pass" -> keep the outputs. Here all of
+    # them: a build of an empty root refuses to delete, and `--full` confirms the deletion.
     src, out = tmp_path / "docs", tmp_path / "out"
     tree_of(12, src)
     assert run_build(src, out, Settings()) == 0
     before = chunk_files(out)
     for path in sorted(src.rglob("*.md")):
         path.unlink()
-    run_build(src, out, Settings())
+    assert run_build(src, out, Settings()) == 1
+    assert "nothing was deleted" in capsys.readouterr().err
     assert chunk_files(out) == before
     assert not [e for e in feed(out) if e["op"] == "delete"]
+    assert run_build(src, out, Settings(), full=True) == 0  # the user confirms: all documents are gone
+    assert chunk_files(out) == {}
+    assert len([e for e in feed(out) if e["op"] == "delete"]) == 12
+
+
+@pytest.mark.timeout(90)
+def test_a_root_swapped_for_an_empty_folder_pauses_the_watcher_until_the_files_are_back(tmp_path: Path) -> None:
+    # An unmount leaves an empty mount point: no delete events arrive, the periodic full
+    # reconcile finds nothing. The outputs stay, the state says so, and the files coming back
+    # (remount) resume the watcher.
+    src, out = tmp_path / "docs", tmp_path / "out"
+    tree_of(6, src)
+    with Watcher(src, out, Settings(), quiet_ms=50, rescan_s=0.3) as w:
+        assert w.loop is not None
+        before = chunk_files(out)
+        os.rename(src, tmp_path / "unmounted")
+        src.mkdir()
+        wait_for(lambda: read_status(out).degraded == "root_empty")  # type: ignore[union-attr]
+        assert chunk_files(out) == before
+        src.rmdir()
+        os.rename(tmp_path / "unmounted", src)
+        wait_for(lambda: read_status(out).degraded == "")  # type: ignore[union-attr]
+        w.sync(20)
+    assert chunk_files(out) == before
+    assert not [e for e in feed(out) if e["op"] == "delete"]
+
+
+def wait_for(predicate: Callable[[], object], timeout: float = 30.0) -> None:
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        if predicate():
+            return
+        time.sleep(0.02)  # polling a condition with a deadline, not waiting a fixed time
+    raise AssertionError("condition not met in time")
