@@ -144,8 +144,13 @@ def main(argv: list[str] | None = None) -> int:
         t_raw = best(lambda: raw_dict(data, TEXT_FLAGS), args.repeat)
         t_img = best(lambda: raw_dict(data, default_flags), args.repeat)
         t_parse = best(lambda: parse_pdf(data, path.name), args.repeat)
-        timing = PdfTimings()
-        t_build = best(lambda: build(data, path.name, "own", timing), args.repeat)
+        runs: list[tuple[float, PdfTimings]] = []
+        for _ in range(args.repeat):
+            timing = PdfTimings()
+            start = time.process_time()
+            build(data, path.name, "own", timing)
+            runs.append((time.process_time() - start, timing))
+        t_build, timing = min(runs, key=lambda r: r[0])  # stage times of the fastest build
         row = (
             f"{path.name:28} {pages:5d} {t_raw:9.3f} {t_img:9.3f} {t_parse:8.3f} {t_build:8.3f} "
             f"{t_build / t_raw:6.2f} {timing.tables:7.3f} {timing.tables / t_build:6.1%} {timing.table_pages:5d}"
@@ -182,7 +187,7 @@ def main(argv: list[str] | None = None) -> int:
     )
     seg = t["build"] - t["parse"]
     print(
-        f"build stages (CPU s, last run of each file): text lines {t['extract']:.3f} "
+        f"build stages (CPU s, fastest build of each file): text lines {t['extract']:.3f} "
         f"(raw dict alone {t['raw']:.3f}), tables {t['tables']:.3f}, layout+headings+tree {t['layout']:.3f}, "
         f"segmenter ~{seg:.3f}"
     )
