@@ -55,6 +55,8 @@ class _Unit:
     expand: Callable[[int], list[_Unit]] | None = None
     """For a unit with structure inside (a list item, a quoted block): smaller units, each fitting
     the given room where possible, that keep that structure."""
+    sep: str | None = None
+    """What goes before this unit when it follows another in a part (default: the joiner)."""
 
 
 class Splitter:
@@ -103,11 +105,18 @@ class Splitter:
         """Running text cut between sentences (then words, then characters)."""
         units: list[_Unit] = []
         offset = 0
+        gap = ""  # the whitespace between the previous sentence and this one, as in the source
         for raw in split_sentences(text, self.language):
             stripped = raw.strip()
             if stripped:
-                start = offset + len(raw) - len(raw.lstrip())
-                units.append(_Unit(stripped, _text_span(span, line_starts, start, start + len(stripped))))
+                lead = len(raw) - len(raw.lstrip())
+                gap += raw[:lead]
+                start = offset + lead
+                sep = "" if not gap else "\n" if "\n" in gap else " "
+                units.append(_Unit(stripped, _text_span(span, line_starts, start, start + len(stripped)), sep=sep))
+                gap = raw[lead + len(stripped):]
+            else:
+                gap += raw
             offset += len(raw)
         return self._pack(units, " ", "", "", first_budget, budget, span)
 
@@ -117,14 +126,28 @@ class Splitter:
     def _item_units(self, block: ListBlock, index: int, room: int) -> list[_Unit]:
         """An over-budget list item cut along its own blocks; the marker leads, the rest indented."""
         marker = item_marker(block, index)
+        pad = " " * len(marker)
         units: list[_Unit] = []
         for b in block.items[index].blocks:
             # Only the first part carries the marker; later parts are merely indented.
-            first = max(room - self.count(marker), 1) if not units else room
-            for part in self.split(b, first, room):
-                lead = marker if not units else " " * len(marker)
-                units.append(_Unit(_indent(part.text, lead, " " * len(marker)), part.span))
+            first = room - self.count(marker) if not units else room
+            units += self._indented_parts(b, first, room, marker if not units else pad, pad)
         return units
+
+    def _indented_parts(self, block: Block, first: int, room: int, lead: str, pad: str) -> list[_Unit]:
+        """Parts of `block` with their lines indented, each fitting `room` once indented.
+
+        Counters that charge for spaces (byte-level BPE) make indented text dearer: the parts are
+        cut again with less room until the indented ones fit (a few rounds at most)."""
+        shrink = 0
+        for _ in range(4):
+            parts = self.split(block, max(first - shrink, 1), max(room - shrink, 1))
+            texts = [_indent(p.text, lead if i == 0 else pad, pad) for i, p in enumerate(parts)]
+            over = max((self.count(t) - (first if i == 0 else room) for i, t in enumerate(texts)), default=0)
+            if over <= 0:
+                break
+            shrink += over
+        return [_Unit(t, p.span) for t, p in zip(texts, parts)]
 
     def _definition_units(self, item: Definition, room: int) -> list[_Unit]:
         """An over-budget definition cut along its blocks; the terms stay with the first part."""
@@ -172,7 +195,10 @@ class Splitter:
                 queue.append(current.pop())
             current, used, limit = [], frame, budget
 
-        while queue:
+        while queue or current:
+            if not queue:
+                close()  # may hand units back to the queue, and then the loop goes on
+                continue
             unit = queue.pop()
             cost = self.count(unit.text)
             if used + cost <= limit:
@@ -202,7 +228,6 @@ class Splitter:
                 close()
                 continue
             queue.extend(reversed([_Unit(p, unit.span) for p in pieces]))
-        close()
         return parts
 
     def _break(self, text: str, first_room: int, room: int) -> list[str]:
@@ -248,7 +273,7 @@ class Splitter:
         return out
 
     def _join(self, units: list[_Unit], joiner: str, prefix: str, suffix: str) -> str:
-        body = joiner.join(u.text for u in units)
+        body = units[0].text + "".join((joiner if u.sep is None else u.sep) + u.text for u in units[1:])
         return "\n".join(x for x in (prefix, body, suffix) if x)
 
     def _make(self, units: list[_Unit], joiner: str, prefix: str, suffix: str, span: Span) -> Part:

@@ -54,6 +54,10 @@ _COMMENT = re.compile(r"<!--.*?(-->|$)", re.DOTALL)
 _HIDDEN = re.compile(r"<(script|style|template)\b.*?(</\1\s*>|$)", re.DOTALL | re.IGNORECASE)
 _TAG = re.compile(r"<[^>]*>")
 _BR = re.compile(r"<br\s*/?>", re.IGNORECASE)
+_BLOCK_TAG = re.compile(
+    r"</?\s*(p|div|li|ul|ol|dl|dt|dd|tr|td|th|table|thead|tbody|h[1-6]|hr|pre|blockquote|section)\b",
+    re.IGNORECASE,
+)
 _SLUG_DROP = re.compile(r"[^\w\- ]", re.UNICODE)
 _MARKERS = re.compile(r"^(?:\s*(?:>+|(?:[-*+]|\d{1,9}[.)])(?=\s|$)))+\s*")
 
@@ -327,6 +331,8 @@ def inline_text_lines(inline: Token) -> tuple[str, list[int]]:
             starts.append(size + 1)
         elif t == "html_inline" and _BR.fullmatch(child.content.strip()):
             piece = "\n"
+        elif t == "html_inline" and _BLOCK_TAG.match(child.content):
+            piece = " "  # a block-level tag inside inline text still separates words
         else:
             continue
         out.append(piece)

@@ -160,6 +160,7 @@ def detect(items: list[Item], stats: FontStats) -> None:
                 item.level = 1
         pending_label = False
     chosen = _without_terms(items, chosen, stats)
+    chosen = _without_front_matter(items, chosen)
     if not chosen:
         return
     votes: dict[tuple[float, bool], Counter[int]] = {}
@@ -215,6 +216,37 @@ def _without_terms(items: list[Item], chosen: list[Item], stats: FontStats) -> l
             continue
         kept.append(item)
     return kept
+
+
+def _without_front_matter(items: list[Item], chosen: list[Item]) -> list[Item]:
+    """On page 1, before the first numbered heading, a large or bold line followed only by short
+    lines (names, affiliations, e-mail addresses, dates) is part of the title block, not a
+    section. The largest line (the title) stays."""
+    first_numbered = next((i for i in chosen if numbering(i.text) is not None), None)
+    front = [i for i in chosen if i.pages[0] == 1 and i is not first_numbered]
+    if first_numbered is not None:
+        limit = items.index(first_numbered)
+        front = [i for i in front if items.index(i) < limit]
+    if not front:
+        return chosen
+    title = max(front, key=lambda i: i.size)
+    position = {id(item): n for n, item in enumerate(items)}
+    chosen_ids = {id(i) for i in chosen}
+    drop: set[int] = set()
+    for item in front:
+        if item is title:
+            continue
+        n = position[id(item)] + 1
+        following: list[Item] = []
+        while n < len(items) and len(following) < 12:
+            nxt = items[n]
+            if id(nxt) in chosen_ids and (nxt.size >= item.size - 0.1 or numbering(nxt.text) is not None):
+                break  # the next heading of this rank or higher ends the block
+            following.append(nxt)
+            n += 1
+        if following and all(f.kind == "text" and len(f.text.split()) <= 10 for f in following):
+            drop.add(id(item))
+    return [i for i in chosen if id(i) not in drop]
 
 
 def _same_level_labelled(style: tuple[float, bool], chosen: list[Item]) -> bool:
