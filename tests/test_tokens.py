@@ -20,8 +20,8 @@ from segment.tokens import CallableCounter, EstimateCounter, TokenizerFileCounte
         ("2024", 3),  # 0.96 + 1.84
         ("a, b.", 4),  # 0.96 + 2.20
         ("", 0),
-        # Other text, per piece: Latin runs 1 per started 5 letters, other letters 1 each.
-        ("naïve café", 2),
+        # A non-ASCII character costs one token in all (0.24 + 0.76).
+        ("naïve café", 4),  # 7 x 0.24 + 2 x 1.0
         ("日本語", 3),
     ],
 )
