@@ -232,3 +232,13 @@ def test_no_chunk_is_over_budget_unless_flagged(budget: int) -> None:
 def test_breadcrumb_does_not_repeat_a_title_equal_to_the_first_heading() -> None:
     tree = doc(section("Guide", 1, Paragraph(words(60)), children=[section("Part", 2, Paragraph(words(5)))]))
     assert {tuple(c.breadcrumb) for c in run(tree)} == {("Guide",), ("Guide", "Part")}
+
+
+def test_a_hand_built_tree_nested_too_deeply_is_a_clear_error() -> None:
+    from segment.errors import SegmentError
+
+    block: object = Paragraph("deepest")
+    for _ in range(2000):
+        block = ListBlock(items=[ListItem([block])])  # type: ignore[list-item]
+    with pytest.raises(SegmentError, match="nested too deeply"):
+        run(doc(section("Deep", 1, block)))
