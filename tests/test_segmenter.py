@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import pytest
 
+from segment import chunk
 from segment.chunk import Chunk
 from segment.segmenter import Segmenter
 from segment.settings import Settings
@@ -241,4 +242,4 @@ def test_a_hand_built_tree_nested_too_deeply_is_a_clear_error() -> None:
     for _ in range(2000):
         block = ListBlock(items=[ListItem([block])])  # type: ignore[list-item]
     with pytest.raises(SegmentError, match="nested too deeply"):
-        run(doc(section("Deep", 1, block)))
+        list(chunk(doc(section("Deep", 1, block)), Settings()))
