@@ -105,14 +105,14 @@ def f1(hits: int, found: int, expected: int) -> tuple[float, float, float]:
 
 
 # Measured 2026-12-02 with use_outline=False (precision / recall / F1; level steps agreeing):
-#   policy.pdf 0.970/0.938/0.954 (0.997), debian-reference.en.pdf 0.955/0.989/0.972 (1.000),
-#   R-intro.pdf 0.906/1.000/0.951 (0.931), acmart-sample-sigconf.pdf 0.800/0.966/0.875 (1.000),
-#   mnras_guide.pdf 0.811/1.000/0.896 (0.931); overall 0.942/0.973/0.957.
-# Target: F1 >= 0.9 per file; the two short papers miss it (title-page author names and
-# affiliations in large type, ABSTRACT/KEYWORDS/REFERENCES headings the outline leaves out), so
-# the per-file threshold below is what the detector reliably reaches, and the overall one holds.
-PER_FILE_F1 = 0.85
-OVERALL_F1 = 0.93
+#   policy.pdf 0.972/0.938/0.955 (0.997), debian-reference.en.pdf 0.955/0.989/0.972 (1.000),
+#   R-intro.pdf 0.906/1.000/0.951 (0.931), acmart-sample-sigconf.pdf 0.903/0.966/0.933 (1.000),
+#   mnras_guide.pdf 0.857/1.000/0.923 (0.931); overall 0.948/0.973/0.960.
+# Target: F1 >= 0.9 per file, met by all five. What remains "false" is mostly real headings the
+# outlines leave out (Preface, Abstract, KEYWORDS, REFERENCES, the title) and a few headings
+# set on two lines that the detector cuts in two.
+PER_FILE_F1 = 0.9
+OVERALL_F1 = 0.95
 LEVEL_AGREEMENT = 0.9
 
 

@@ -219,14 +219,14 @@ def _without_terms(items: list[Item], chosen: list[Item], stats: FontStats) -> l
 
 
 def _without_front_matter(items: list[Item], chosen: list[Item]) -> list[Item]:
-    """On page 1, before the first numbered heading, a large or bold line followed only by short
-    lines (names, affiliations, e-mail addresses, dates) is part of the title block, not a
-    section. The largest line (the title) stays."""
+    """In a document with numbered sections, a large or bold line on page 1 before section 1 that
+    is followed only by short lines (names, affiliations, e-mail addresses, dates) belongs to the
+    title block, not to the sections. The largest line (the title) stays."""
     first_numbered = next((i for i in chosen if numbering(i.text) is not None), None)
-    front = [i for i in chosen if i.pages[0] == 1 and i is not first_numbered]
-    if first_numbered is not None:
-        limit = items.index(first_numbered)
-        front = [i for i in front if items.index(i) < limit]
+    if first_numbered is None:
+        return chosen  # only a document with numbered sections has a front matter to tell apart
+    limit = items.index(first_numbered)
+    front = [i for i in chosen if i.pages[0] == 1 and items.index(i) < limit]
     if not front:
         return chosen
     title = max(front, key=lambda i: i.size)
@@ -240,12 +240,12 @@ def _without_front_matter(items: list[Item], chosen: list[Item]) -> list[Item]:
         following: list[Item] = []
         while n < len(items) and len(following) < 12:
             nxt = items[n]
-            if id(nxt) in chosen_ids and (nxt.size >= item.size - 0.1 or numbering(nxt.text) is not None):
-                break  # the next heading of this rank or higher ends the block
+            if id(nxt) in chosen_ids:
+                break  # the next heading-like line ends the block
             following.append(nxt)
             n += 1
-        if following and all(f.kind == "text" and len(f.text.split()) <= 10 for f in following):
-            drop.add(id(item))
+        if all(f.kind == "text" and len(f.text.split()) <= 14 for f in following):
+            drop.add(id(item))  # nothing but short lines (or nothing) before the next heading
     return [i for i in chosen if id(i) not in drop]
 
 
