@@ -116,9 +116,10 @@ def visible_text(markdown: str) -> str:
     if not html.strip():
         return ""
     root = lxml.html.fromstring(f"<div>{html}</div>")
-    # A line break or the end of a block separates words even where the HTML has no whitespace
-    # (`23<br/>OpenJ9` in a table cell reads as two words).
+    # A line break or a block's start or end separates words even where the HTML has no
+    # whitespace (`23<br/>OpenJ9` or `arg<p>VAR</p>` in a table cell read as two words).
     for el in root.iter(*BLOCK_TAGS):
+        el.text = "\n" + (el.text or "")
         el.tail = "\n" + (el.tail or "")
     # Script and style bodies are not shown to a reader.
     for el in list(root.iter("script", "style")):

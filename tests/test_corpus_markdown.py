@@ -34,17 +34,7 @@ BUDGETS = (256, 512)
 # Checks that fail on the current code, each with the finding that explains it (written up with a
 # minimal repro in the notes for the Markdown adapter and segmenter). Remove an entry when fixed:
 # the marks are strict, so a check that starts passing fails until its entry goes.
-_MIXED_ESTIMATE = (
-    "F12: the estimator counts an ASCII text by character weights but a text with any non-ASCII "
-    "character per piece, so a paragraph's count exceeds the sum of its sentences'; parts close "
-    "over budget, and the sentence sent back to the queue by the last close() is never packed "
-    "(collector/scaling.md loses 'Using a Sidecar also makes sense ... fails.')"
-)
-KNOWN_FAILURES: dict[tuple[str, int], str] = {
-    ("budget", 256): _MIXED_ESTIMATE,
-    ("budget", 512): _MIXED_ESTIMATE,
-    ("words", 256): _MIXED_ESTIMATE,
-}
+KNOWN_FAILURES: dict[tuple[str, int], str] = {}
 
 
 # ----- the checker notices damage (demo docs, always run) --------------------------------------
@@ -99,7 +89,7 @@ def test_word_split_parts_point_at_their_own_lines(tmp_path: Path) -> None:
     assert chunks[1].lines[0] >= chunks[0].lines[1] and chunks[1].lines[0] == 3, [c.lines for c in chunks]
 
 
-@pytest.mark.xfail(strict=True, reason=_MIXED_ESTIMATE)
+# F12 (fixed): the last sentence sent back to the queue by a part closing over budget was lost.
 def test_no_sentence_is_lost_from_a_paragraph_with_a_typographic_apostrophe(tmp_path: Path) -> None:
     ascii_sentence = (
         "When the number of nodes is low and the number of pods is high, sidecars might make more sense for you."

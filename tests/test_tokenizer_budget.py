@@ -113,10 +113,8 @@ def test_the_budget_binds(tokenizer_file: Path) -> None:
 
 
 # Found by running the shared corpus under the byte-level BPE (6 chunks over 256, up to 268).
-KNOWN_ITEM_CODE: dict[str, str] = {
-    "byte-bpe": "F11: parts of a code block inside a list item are counted before the item's "
-    "indentation is added; byte-level BPE counts those spaces (chunks of 129-142 > 128)",
-}
+KNOWN_ITEM_CODE: dict[str, str] = {}
+"""F11 (fixed): parts of code inside a list item were counted before the item's indentation."""
 
 
 def test_code_inside_a_list_item_fits_under_the_real_tokenizer(
