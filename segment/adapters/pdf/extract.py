@@ -94,12 +94,15 @@ class Line:
     """A non-text item (a table) standing in the reading order in this line's place."""
     split: int = -1
     """Index of the first piece after a wide gap on the baseline (a key/description pair)."""
+    prose_size: float = 0.0
+    """Dominant size of the line's non-monospaced text (inline code is often set smaller)."""
 
     def finish(self) -> None:
         """Compute text and style summaries from the pieces."""
         pieces = self.pieces
         self.text = "".join([p.text for p in pieces])
         sizes: dict[float, int] = {}
+        prose: dict[float, int] = {}
         total = bold = mono = 0
         for p in pieces:
             n = len(p.text) - p.text.count(" ")
@@ -109,6 +112,8 @@ class Line:
             if not p.superscript:
                 key = int(p.size * 2 + 0.5) / 2
                 sizes[key] = sizes.get(key, 0) + n
+                if not p.mono:
+                    prose[key] = prose.get(key, 0) + n
             if p.bold:
                 bold += n
             if p.mono:
@@ -121,6 +126,7 @@ class Line:
             self.size = pieces[0].size if pieces else 0.0
         self.bold = bold / total if total else 0.0
         self.mono = mono / total if total else 0.0
+        self.prose_size = max(prose, key=lambda k: (prose[k], k)) if prose else self.size
 
     @property
     def height(self) -> float:
@@ -163,14 +169,24 @@ def page_lines(
     if vectors is not None:
         vectors.extend(b for b in data.get("blocks", ()) if b.get("type") == 3)
     out: list[Line] = []
-    for bno, block in enumerate(data.get("blocks", ())):
+    bno = -1
+    vector_since = False
+    for block in data.get("blocks", ()):
         if block.get("type", 0) != 0:
+            vector_since = True
             continue
+        bno += 1
+        if vector_since and out and _continues(out[-1], block):
+            # Collecting vectors makes MuPDF start a new text block after any path (a bullet,
+            # an underline); text that simply goes on below keeps its block number.
+            bno -= 1
+        vector_since = False
         for raw in block.get("lines", ()):
+            line_bno = bno
             wdir = raw.get("dir", (1.0, 0.0))
             if abs(wdir[1]) > 0.2:
                 # Rotated text (margin stamps, rotated table heads): kept, but as its own block.
-                bno = -1 - bno
+                line_bno = -1 - bno
             pieces = []
             for span in raw.get("spans", ()):
                 text = span["text"]
@@ -183,8 +199,18 @@ def page_lines(
             if not pieces:
                 continue
             x0, y0, x1, y1 = raw["bbox"]
-            line = Line(page_number, x0, y0, x1, y1, pieces, bno)
+            line = Line(page_number, x0, y0, x1, y1, pieces, line_bno)
             line.finish()
             if line.text.strip():
                 out.append(line)
     return out
+
+
+def _continues(last: Line, block: dict[str, Any]) -> bool:
+    """The block goes on from the last line: on its baseline to its right, or right under it
+    near its left edge (same paragraph)."""
+    x0, y0, _, _ = block["bbox"]
+    size = max(last.size, 1.0)
+    if abs(y0 - last.y0) <= 0.5 * size and x0 >= last.x1 - 2:
+        return True
+    return 0 <= y0 - last.y1 + 2 <= 0.5 * size + 2 and abs(x0 - last.x0) <= 12

@@ -83,8 +83,10 @@ def is_label(item: Item) -> bool:
 
 def is_candidate(item: Item, stats: FontStats) -> bool:
     """Whether a text block looks like a heading by style and shape."""
-    if item.kind != "text" or len(item.first.lines) > MAX_LINES:
+    if item.kind != "text" or len(item.first.lines) > MAX_LINES + 2:
         return False
+    if len(item.first.lines) > MAX_LINES and item.size < stats.body_size + 2:
+        return False  # only clearly larger type may wrap a heading over four or five lines
     if any("boxed" in ln.flags for ln in item.first.lines):
         return False
     text = item.text.strip()

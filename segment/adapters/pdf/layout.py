@@ -146,13 +146,21 @@ def _column_of(line: Line, gutters: list[tuple[float, float]]) -> int:
 def merge_baselines(lines: list[Line]) -> list[Line]:
     """Join lines that share a baseline (split runs, bullets set apart, key/value pairs)."""
     out: list[Line] = []
+    alias: dict[int, int] = {}
     for line in sorted(lines, key=lambda ln: (ln.y0, ln.x0)):
+        if line.block in alias:
+            line.block = alias[line.block]
         if out and "table" not in line.flags and "table" not in out[-1].flags:
             prev = out[-1]
             overlap = min(prev.y1, line.y1) - max(prev.y0, line.y0)
             gap = line.x0 - prev.x1
-            near = gap <= 1.5 * max(prev.size, line.size, 1.0) or line.block == prev.block
+            size = max(prev.size, line.size, 1.0)
+            near = gap <= 1.5 * size or line.block == prev.block
             if overlap >= 0.5 * min(prev.height, line.height) and gap >= -1 and near:
+                if line.block != prev.block and gap <= 1.5 * size:
+                    # A sentence that MuPDF cut into two blocks mid-line goes on below in the
+                    # second block: its later lines belong with the first.
+                    alias[line.block] = prev.block
                 out[-1] = _join(prev, line)
                 continue
         out.append(line)
@@ -244,8 +252,8 @@ def _breaks(prev: Line, line: Line) -> bool:
         # Code set apart from prose (indented or spaced); an inline code run that happens to
         # fill a wrapped line of a paragraph stays in the paragraph, whatever its type size.
         return abs(line.x0 - prev.x0) > 3 or line.y0 - prev.y1 > 0.5 * size
-    if abs(prev.size - line.size) > 0.6:
-        return True
+    if abs(prev.prose_size - line.prose_size) > 0.6:
+        return True  # compared on the prose: a line full of smaller inline code is no break
     if abs(prev.bold - line.bold) > 0.6 and (prev.bold > 0.9 or line.bold > 0.9):
         return True
     return False
