@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import time
 from collections import Counter
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import pymupdf
 
@@ -36,7 +36,6 @@ class PdfTimings:
     layout: float = 0.0
     total: float = 0.0
     table_pages: int = 0
-    stages: dict[str, float] = field(default_factory=dict)
 
 
 def parse(data: bytes, source: str) -> Document:
@@ -65,6 +64,11 @@ def parse_pdf(
         raise
     except (RuntimeError, ValueError) as exc:
         raise ParseError(source, f"cannot read PDF content: {exc}", status="corrupt") from exc
+    except (MemoryError, RecursionError):
+        raise  # the caller reports these as resource limits
+    except Exception as exc:  # a layout our heuristics did not foresee: say so, no traceback
+        log.debug("%s: unexpected error in the PDF adapter", source, exc_info=True)
+        raise ParseError(source, f"PDF adapter failed on this file ({type(exc).__name__}: {exc})", status="error") from exc
     finally:
         doc.close()
         count = flush_warnings(source)
