@@ -72,14 +72,14 @@ def run_segment(docs: list[tuple[str, bytes]], settings: Settings) -> None:
 
 
 def run_build(docs: list[tuple[str, bytes]], settings: Settings, out: Path) -> None:
+    made: set[Path] = set()
     for name, data in docs:
-        chunks = segment.chunk(segment.parse_bytes(data, name), settings)
+        text = "".join(c.to_json() + "\n" for c in segment.chunk(segment.parse_bytes(data, name), settings))
         dest = out / "chunks" / (name + ".jsonl")
-        dest.parent.mkdir(parents=True, exist_ok=True)
-        with dest.open("w", encoding="utf-8") as fh:
-            for c in chunks:
-                fh.write(c.to_json())
-                fh.write("\n")
+        if dest.parent not in made:
+            dest.parent.mkdir(parents=True, exist_ok=True)
+            made.add(dest.parent)
+        dest.write_text(text, encoding="utf-8")
 
 
 def run_daemon(root: Path, settings: Settings, out: Path) -> None:
