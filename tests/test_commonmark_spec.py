@@ -315,10 +315,8 @@ CODE_EXAMPLES = [
     for e in _load("commonmark-0.31.2.json")
     if e["html"].strip() and _html_code_blocks(e["html"]) and "<pre" not in e["markdown"]
 ]
-KNOWN_CODE_BUGS: dict[int, str] = {
-    24: "F15: the fence's info string keeps its backslash escape (foo\\+bar, spec: foo+bar)",
-    34: "F15: the fence's info string keeps its entity references (f&ouml;&ouml;, spec: föö)",
-}
+KNOWN_CODE_BUGS: dict[int, str] = {}
+"""F15 (fixed): examples 24 and 34, fence info strings were not unescaped."""
 
 
 # Source: CommonMark Spec 0.31.2, the example's expected HTML: every <pre><code> block's
