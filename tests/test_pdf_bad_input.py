@@ -178,3 +178,23 @@ def test_mupdf_warnings_go_to_the_log_not_stdout(good: bytes, capsys: pytest.Cap
     out = capsys.readouterr()
     assert out.out == ""
     assert any("mupdf" in r.getMessage() for r in caplog.records)
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_damaged_bytes_give_a_tree_or_a_clear_error(good: bytes, many: bytes, seed: int) -> None:
+    # Random damage (RELIABILITY.md P3 "garbage"): bytes overwritten at random places, seeded.
+    import random
+
+    rng = random.Random(seed)
+    for source in (good, many):
+        data = bytearray(source)
+        for _ in range(20 * (seed + 1)):
+            data[rng.randrange(len(data))] = rng.randrange(256)
+        start = time.perf_counter()
+        try:
+            doc = parse_pdf(bytes(data), "damaged.pdf")
+        except SegmentError as error:
+            assert "damaged.pdf" in str(error)
+        else:
+            assert doc.format == "pdf"
+        assert time.perf_counter() - start < 10

@@ -96,20 +96,27 @@ def _parse_open(
     textpages: dict[int, tuple[pymupdf.Page, pymupdf.TextPage]] = {}
     rule_time = 0.0
     for index in range(doc.page_count):
-        page = doc[index]
-        heights.append(page.rect.height)
         vectors: list[dict[str, object]] | None = [] if table_engine != "none" else None
         try:
+            page = doc[index]
+            width, height = page.rect.width, page.rect.height
             textpage = page.get_textpage(flags=extract.VECTOR_FLAGS if vectors is not None else extract.TEXT_FLAGS)
             lines = page_lines(page, index + 1, textpage, vectors)  # type: ignore[arg-type]
-        except RuntimeError as exc:
-            warnings.append(f"page {index + 1}: cannot read text ({exc})")
-            lines, textpage = [], None
+        except (RuntimeError, ValueError, MemoryError, pymupdf.mupdf.FzErrorBase) as exc:
+            # A damaged page (missing from the page tree, broken content stream): say so, go on.
+            warnings.append(f"page {index + 1}: cannot read page ({exc})")
+            heights.append(792.0)
+            page_rulings.append(rulings.Rulings())
+            page_figures.append([])
+            no_text.append(index + 1)
+            pages.append([])
+            continue
+        heights.append(height)
         ts = time.process_time()
-        r = rulings.rulings_from_vectors(vectors or [], page.rect.width, page.rect.height)
+        r = rulings.rulings_from_vectors(vectors or [], width, height)
         page_rulings.append(r)
-        page_figures.append(figures.figure_boxes(vectors or [], page.rect.width * page.rect.height))
-        if textpage is not None and rulings.is_candidate(r):
+        page_figures.append(figures.figure_boxes(vectors or [], width * height))
+        if rulings.is_candidate(r):
             textpages[index] = (page, textpage)  # kept for the word boxes of the table stage
         rule_time += time.process_time() - ts
         if not lines:

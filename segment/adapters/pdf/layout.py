@@ -76,8 +76,8 @@ def find_gutters(lines: list[Line]) -> list[tuple[float, float]]:
     x_min = min(ln.x0 for ln in body)
     x_max = max(ln.x1 for ln in body)
     width = x_max - x_min
-    if width < 150:
-        return []
+    if not 150 <= width <= 20_000:
+        return []  # too narrow for columns, or coordinates from a damaged page
     wide = sum(1 for ln in body if ln.x1 - ln.x0 > WIDE_SHARE * width)
     slack = wide + max(2, int(0.03 * len(body)))
     n = int(width) + 2
