@@ -23,11 +23,16 @@ For one source file and one budget it checks, independently of how the segmenter
    mark, or where spaCy's rule-based sentencizer starts a new sentence), or inside a sentence only
    when that sentence alone is over budget;
 6. lines: chunks follow the source, each starting no earlier than the line where the previous one
-   ends (two chunks may share the line where one sentence ends and the next begins).
+   ends (two chunks may share the line where one sentence ends and the next begins);
+7. syntax: markup a reader never sees (shortcode delimiters, `[!NOTE]` alert markers, lines that
+   are only a `{#id}` / `{.class}` attribute list) is in no chunk's text outside code, and no
+   breadcrumb carries it or a `{#id}`.
 
 The visible-words reference follows what a reader of the rendered site sees: YAML front matter,
-static-site shortcode markers (`{{< ... >}}`, `{{% ... %}}`, whose inner text stays) and explicit
-heading ids (`{#id}`) are not visible words; link URLs and image sources are not text in HTML,
+static-site shortcode markers (`{{< ... >}}`, `{{% ... %}}`, whose inner text stays), explicit
+heading ids (`## Title {#id}`) and lines holding only an attribute list (`{#id}`, applied by the
+site generator to a neighbouring block; Goldmark's block attributes, from memory) are not
+visible words; link URLs and image sources are not text in HTML,
 nor are the bodies of `<script>` and `<style>` elements.
 """
 
@@ -63,6 +68,7 @@ WORD = re.compile(r"\w+", re.UNICODE)
 FRONT_MATTER = re.compile(r"\A(?:\ufeff)?---[ \t]*\r?\n.*?\r?\n(?:---|\.\.\.)[ \t]*(?:\r?\n|\Z)", re.S)
 SHORTCODE = re.compile(r"\{\{[<%].*?[%>]\}\}", re.S)
 HEADING_ID = re.compile(r"^([ \t]{0,3}#{1,6}[ \t].*?)[ \t]*\{#[^}\n]*\}[ \t]*$", re.M)
+ATTRIBUTE_LINE = re.compile(r"^[ \t]{0,3}\{[#.][\w.:-]+(?:[ \t][^}\n]*)?\}[ \t]*$", re.M)
 SENTENCE_END = re.compile(r"[.!?\u2026\u3002][\"'\u201d\u2019)\]*_`]*\s*$")
 SENTENCE_END_INSIDE = re.compile(r"[.!?\u2026\u3002][\"'\u201d\u2019)\]*_`]*\s")
 PIPE_ROW = re.compile(r"^\|.*\|$")
@@ -70,7 +76,13 @@ DELIMITER_ROW = re.compile(r"^\|(?: ?:?-+:? ?\|)+$")
 TAIL_WORDS = 4
 ROUNDING = 2
 """Tokens a sum of separately counted pieces (fence, line) may exceed the joined text's count."""
-CHECKS = ("rows", "code", "crumbs", "budget", "boundaries", "lines")
+CHECKS = ("rows", "code", "crumbs", "budget", "boundaries", "lines", "syntax")
+MARKUP = re.compile(
+    r"\{\{[<%]|[%>]\}\}"  # static-site shortcode delimiters
+    r"|^\s*\[!(?:NOTE|TIP|IMPORTANT|WARNING|CAUTION)\]"  # GitHub alert markers
+    r"|^\s*\{[#.][\w.:-]+(?:\s[^}]*)?\}\s*$",  # a line that is only a block attribute list
+    re.IGNORECASE | re.MULTILINE,
+)
 BLOCK_TAGS = (
     "br", "p", "div", "li", "td", "th", "tr", "h1", "h2", "h3", "h4", "h5", "h6", "pre",
     "blockquote", "table", "ul", "ol", "dt", "dd", "hr", "section", "details", "summary",
@@ -112,6 +124,7 @@ def visible_text(markdown: str) -> str:
     body = FRONT_MATTER.sub("", markdown, count=1)
     body = SHORTCODE.sub("", body)
     body = HEADING_ID.sub(r"\1", body)
+    body = ATTRIBUTE_LINE.sub("", body)
     html = _renderer().render(body)
     if not html.strip():
         return ""
@@ -229,6 +242,7 @@ class FileReport:
     boundaries: list[str] = field(default_factory=list)
     lines: list[str] = field(default_factory=list)
     code: list[str] = field(default_factory=list)
+    syntax: list[str] = field(default_factory=list)
     error: str | None = None
 
 
@@ -249,6 +263,7 @@ def check_chunks(
     _check_boundaries(doc, chunks, max_tokens, counter, rep)
     _check_lines(chunks, rep)
     _check_code(doc, chunks, max_tokens, counter, rep)
+    _check_syntax(chunks, rep)
     return rep
 
 
@@ -441,6 +456,21 @@ def _check_code(doc: Document, chunks: list[Chunk], max_tokens: int, counter: To
             if line.strip() and line.strip() not in have and alone + ROUNDING <= max_tokens:
                 first = code.span.lines[0] if code.span.lines else 0
                 rep.code.append(f"code line {i + 1} of block at line {first} not whole in any chunk: {line.strip()[:70]!r}")
+
+
+def _check_syntax(chunks: list[Chunk], rep: FileReport) -> None:
+    """Markup a reader never sees stays out of chunk text (outside code) and breadcrumbs."""
+    for c in chunks:
+        fenced = False
+        for line in c.text.split("\n"):
+            if line.lstrip().startswith("```"):
+                fenced = not fenced
+                continue
+            if not fenced and MARKUP.search(line):
+                rep.syntax.append(f"chunk {c.seq}: markup in text: {line.strip()[:80]!r}")
+        for crumb in c.breadcrumb:
+            if MARKUP.search(crumb) or re.search(r"\{#[\w.:-]+\}", crumb):
+                rep.syntax.append(f"chunk {c.seq}: markup in breadcrumb: {crumb!r}")
 
 
 def _check_lines(chunks: list[Chunk], rep: FileReport) -> None:
