@@ -4,7 +4,8 @@ Source: the OpenTelemetry documentation (open-telemetry/opentelemetry.io, conten
 CC-BY-4.0; see ../shared/corpus/markdown/opentelemetry-docs/SOURCE.md), 441 real pages. What a
 reader of those pages expects of the chunks is written out in tests/checker.py: whole table rows
 and code lines, the right heading path, every visible word present (markdown-it-py + lxml as the
-reference rendering), the budget, sentence or block boundaries, chunks in source order.
+reference rendering), the budget, sentence or block boundaries, chunks in source order, and no
+markup a reader never sees (shortcodes, alert markers, attribute lists).
 
 The checker itself is checked first, on the bundled demo docs, by breaking chunks on purpose:
 each check must notice its kind of damage.
