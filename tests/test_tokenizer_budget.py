@@ -170,3 +170,27 @@ def test_real_docs_fit_under_the_real_tokenizer(tokenizer_file: Path, request: p
             if real != c.tokens or (real > 256 and not c.oversize):
                 bad.append(f"{c.source} chunk {c.seq}: tokenizer {real}, recorded {c.tokens}, oversize {c.oversize}")
     assert not bad, "\n".join(bad[:10])
+
+
+KNOWN_ONE_LINE_CODE: dict[str, str] = {
+    "byte-bpe": "F18: a one-line code block one token over the budget is kept whole and not flagged, "
+    "though its line splits between words (25 > 24 for '```sh\\nzfmkkxaodw pkprywesyd\\n```')",
+}
+
+
+def test_one_line_code_block_just_over_budget_is_cut_between_words(
+    tokenizer_file: Path, request: pytest.FixtureRequest, tmp_path: Path
+) -> None:
+    known = KNOWN_ONE_LINE_CODE.get(request.node.callspec.params["tokenizer_file"])
+    if known:
+        request.applymarker(pytest.mark.xfail(reason=known, strict=True))
+    tok = Tokenizer.from_file(str(tokenizer_file))
+    line = "zfmkkxaodw pkprywesyd"
+    fenced = _count(tok, f"```sh\n{line}\n```")
+    budget = fenced - 1  # the whole block is one token too many; each word fits in its fences
+    assert budget >= 16 and all(_count(tok, f"```sh\n{w}\n```") <= budget for w in line.split())
+    page = tmp_path / "one-line.md"
+    page.write_text(f"```sh\n{line}\n```\n", encoding="utf-8")
+    chunks = segment.chunk_file(page, Settings(tokenizer=str(tokenizer_file), max_tokens=budget, min_tokens=0))
+    counts = [_count(tok, c.text) for c in chunks]
+    assert all(n <= budget or c.oversize for n, c in zip(counts, chunks)), (budget, counts)
