@@ -31,11 +31,11 @@ def read_source(path: str | Path, settings: Settings | None = None) -> bytes:
         raise ParseError(str(path), f"cannot read: {exc.strerror or exc}", status="unreadable") from exc
 
 
-def parse_bytes(data: bytes, source: str) -> Document:
+def parse_bytes(data: bytes, source: str, settings: Settings | None = None) -> Document:
     """Parse bytes with the adapter chosen by `source`'s suffix."""
     fn = adapter_for(source).load()
     try:
-        return fn(data, source)
+        return fn(data, source, settings)
     except SegmentError:
         raise
     except RecursionError as exc:
@@ -47,7 +47,7 @@ def parse_bytes(data: bytes, source: str) -> Document:
 def parse(path: str | Path, settings: Settings | None = None, source: str | None = None) -> Document:
     """Parse one file into the common tree. `source` names it in records (default: the file name)."""
     name = source if source is not None else PurePath(path).name
-    return parse_bytes(read_source(path, settings), name)
+    return parse_bytes(read_source(path, settings), name, settings)
 
 
 def chunk(document: Document, settings: Settings | None = None) -> Iterator[Chunk]:

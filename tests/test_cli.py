@@ -72,3 +72,16 @@ def test_unknown_setting_names_the_file(tmp_path: Path) -> None:
         assert "segment.toml" in str(exc) and "max_token" in str(exc)
     else:
         raise AssertionError("an unknown setting must be refused")
+
+
+def test_settings_reach_the_adapters() -> None:
+    import segment
+
+    # The PDF page cap is a setting: a 2-page manual is refused under max_pages=1.
+    manual = FIXTURES / "demo" / "manuals" / "operations-guide.pdf"
+    try:
+        segment.parse(manual, segment.Settings(max_pages=1))
+    except segment.SegmentError as exc:
+        assert exc.status == "resource_limit" and "max_pages" in exc.reason
+    else:
+        raise AssertionError("max_pages=1 must refuse a 2-page PDF")

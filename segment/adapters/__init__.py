@@ -1,7 +1,7 @@
 """Adapter registry: which module turns which files into the common tree.
 
-Each adapter module exposes `parse(data: bytes, source: str) -> Document` and raises
-`segment.errors.ParseError` (or a subclass) with a reason when it cannot.
+Each adapter module exposes `parse(data: bytes, source: str, settings: Settings | None = None)
+-> Document` and raises `segment.errors.ParseError` (or a subclass) with a reason when it cannot.
 """
 
 from __future__ import annotations
@@ -12,10 +12,11 @@ from dataclasses import dataclass
 from pathlib import PurePath
 
 from segment.errors import UnsupportedFormat
+from segment.settings import Settings
 from segment.tree import Document
 
-ParseFn = Callable[[bytes, str], Document]
-"""An adapter: the file's bytes and its display name in, a Document out."""
+ParseFn = Callable[[bytes, str, Settings | None], Document]
+"""An adapter: the file's bytes, its display name and the settings in, a Document out."""
 
 
 @dataclass(frozen=True, slots=True)

@@ -25,6 +25,7 @@ from mdit_py_plugins.front_matter import front_matter_plugin
 
 from segment.adapters.text import decode_text, sniff_binary
 from segment.errors import ParseError
+from segment.settings import Settings
 from segment.tree import (
     Block,
     Code,
@@ -76,8 +77,8 @@ _YAML_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
 """libyaml's safe loader when PyYAML was built with it (about 10x faster), else the Python one."""
 
 
-def parse(data: bytes, source: str) -> Document:
-    """Parse Markdown bytes into a Document."""
+def parse(data: bytes, source: str, settings: Settings | None = None) -> Document:
+    """Parse Markdown bytes into a Document (no setting changes how Markdown is read)."""
     sniff_binary(data, source, "Markdown text")
     doc = Document(source=source, format="markdown")
     text = decode_text(data, doc.warnings)

@@ -20,11 +20,12 @@ from segment.adapters.html.decode import decode
 from segment.adapters.html.dom import parse_tree
 from segment.adapters.html.walk import Walker
 from segment.errors import ParseError
+from segment.settings import Settings
 from segment.tree import Document, finish_spans
 
 
-def parse(data: bytes, source: str) -> Document:
-    """Parse HTML bytes into a Document."""
+def parse(data: bytes, source: str, settings: Settings | None = None) -> Document:
+    """Parse HTML bytes into a Document (no setting changes how HTML is read)."""
     decoded = decode(data, source)
     doc = Document(source=source, format="html", warnings=decoded.warnings)
     try:

@@ -38,9 +38,9 @@ class PdfTimings:
     table_pages: int = 0
 
 
-def parse(data: bytes, source: str) -> Document:
-    """Registry entry point: bytes of a PDF to the common tree."""
-    return parse_pdf(data, source)
+def parse(data: bytes, source: str, settings: Settings | None = None) -> Document:
+    """Registry entry point: bytes of a PDF to the common tree (the page cap from `settings`)."""
+    return parse_pdf(data, source, max_pages=(settings or Settings()).max_pages)
 
 
 def parse_pdf(
