@@ -11,7 +11,8 @@ must agree with it:
 - lists: each list's kind (ordered or not), start number, item count and, per item, the lists
   nested inside it (recursively), in document order;
 - tables: header cells and body rows' cells.
-Separately, every example with code blocks: each block's language and lines.
+Separately, every example with code blocks: each block's language and lines; and every example
+with block quotes: their number and nesting.
 """
 
 from __future__ import annotations
@@ -325,6 +326,48 @@ KNOWN_CODE_BUGS: dict[int, str] = {}
 def test_commonmark_example_code_blocks(example: dict[str, Any]) -> None:
     want = _html_code_blocks(example["html"])
     got = _tree_code_blocks(example["markdown"])
+    assert got == want, f"example {example['example']}: {example['markdown']!r}\nexpected {want!r}\nour tree {got!r}"
+
+
+# ----- block quotes: count and nesting ---------------------------------------------------------
+
+
+def _html_quotes_in(el: lxml.html.HtmlElement) -> list[Any]:
+    out: list[Any] = []
+    for child in el:
+        if not isinstance(child.tag, str):
+            continue
+        if child.tag == "blockquote":
+            out.append(("quote", _html_quotes_in(child)))
+        else:
+            out.extend(_html_quotes_in(child))
+    return out
+
+
+def _tree_quotes_in(blocks: list[Block]) -> list[Any]:
+    out: list[Any] = []
+    for block in blocks:
+        if isinstance(block, Quote):
+            out.append(("quote", _tree_quotes_in(block.blocks)))
+        elif isinstance(block, ListBlock):
+            out.extend(_tree_quotes_in([b for item in block.items for b in item.blocks]))
+    return out
+
+
+QUOTE_EXAMPLES = [
+    e
+    for e in _load("commonmark-0.31.2.json")
+    if "<blockquote" in e["html"] and "<blockquote" not in e["markdown"].lower()
+]
+
+
+# Source: CommonMark Spec 0.31.2, the example's expected HTML: the <blockquote> elements, their
+# nesting (also inside list items) and order match our tree's Quote blocks.
+@pytest.mark.parametrize("example", _params(QUOTE_EXAMPLES, {}, {}))
+def test_commonmark_example_block_quotes(example: dict[str, Any]) -> None:
+    want = _html_quotes_in(_fragment(example["html"]))
+    doc = segment.parse_bytes(example["markdown"].encode("utf-8"), "example.md")
+    got = _tree_quotes_in(_tree_blocks(doc))
     assert got == want, f"example {example['example']}: {example['markdown']!r}\nexpected {want!r}\nour tree {got!r}"
 
 
