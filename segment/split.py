@@ -140,13 +140,13 @@ class Splitter:
         Counters that charge for spaces (byte-level BPE) make indented text dearer: the parts are
         cut again with less room until the indented ones fit (a few rounds at most)."""
         shrink = 0
-        for _ in range(4):
+        for _ in range(6):
             parts = self.split(block, max(first - shrink, 1), max(room - shrink, 1))
             texts = [_indent(p.text, lead if i == 0 else pad, pad) for i, p in enumerate(parts)]
             over = max((self.count(t) - (first if i == 0 else room) for i, t in enumerate(texts)), default=0)
             if over <= 0:
                 break
-            shrink += over
+            shrink = max(shrink * 2, shrink + over)  # parts move a whole line at a time
         return [_Unit(t, p.span) for t, p in zip(texts, parts)]
 
     def _definition_units(self, item: Definition, room: int) -> list[_Unit]:
@@ -178,7 +178,9 @@ class Splitter:
         tentatively; the joined text is counted again on closing a part, since subword counts are
         not always additive, and the last unit goes back to the queue when it went over.
         """
-        frame = self.count(prefix + "\n" + suffix) if prefix or suffix else 0
+        # What the prefix and suffix add around a body, joins included (a byte-level BPE counts
+        # the newlines too): the cost of a framed one-letter body less that of the letter.
+        frame = self.count(self._join([_Unit("x", span)], joiner, prefix, suffix)) - self.count("x") if prefix or suffix else 0
         parts: list[Part] = []
         current: list[_Unit] = []
         used = frame

@@ -52,6 +52,7 @@ _SHORTCODE = re.compile(r"\{\{([<%])(.*?)([%>])\}\}", re.DOTALL)
 _SHORTCODE_ARG = re.compile(r'(?:(\w+)\s*=\s*)?("(?:[^"\\]|\\.)*"|`[^`]*`|\S+)')
 _LABEL_KEYS = {"title", "header", "caption", "label", "name"}
 _HEADING_ID = re.compile(r"\s*\{#([\w.:-]+)[^}]*\}\s*$")
+_ATTRIBUTES_ONLY = re.compile(r"\{[#.][\w.:-]+(?:\s+[^{}]*)?\}")
 _ALERT = re.compile(r"^\[!(\w+)\][ \t]*\n?")
 _COMMENT = re.compile(r"<!--.*?(-->|$)", re.DOTALL)
 _HIDDEN = re.compile(r"<(script|style|template)\b.*?(</\1\s*>|$)", re.DOTALL | re.IGNORECASE)
@@ -258,6 +259,8 @@ class _TreeBuilder:
     def paragraph(self, inline: Token, span: Span) -> None:
         raw, starts = inline_text_lines(inline)
         text = raw.strip()
+        if _ATTRIBUTES_ONLY.fullmatch(text):
+            return  # `{#id .class}` alone on a line: block attributes for the generator, never shown
         if text:
             lead = len(raw) - len(raw.lstrip())
             starts = [k - lead for k in starts if lead < k < lead + len(text)]
