@@ -35,14 +35,7 @@ BUDGETS = (256, 512)
 # Checks that fail on the current code, each with the finding that explains it (written up with a
 # minimal repro in the notes for the Markdown adapter and segmenter). Remove an entry when fixed:
 # the marks are strict, so a check that starts passing fails until its entry goes.
-_ATTRIBUTE_LINES = (
-    "F16: a line holding only an attribute list ('{#configuring-the-agent}' before a heading in "
-    "zero-code/python/_index.md and troubleshooting.md) stays in the chunk text"
-)
-KNOWN_FAILURES: dict[tuple[str, int], str] = {
-    ("syntax", 256): _ATTRIBUTE_LINES,
-    ("syntax", 512): _ATTRIBUTE_LINES,
-}
+KNOWN_FAILURES: dict[tuple[str, int], str] = {}
 
 
 # ----- the checker notices damage (demo docs, always run) --------------------------------------
