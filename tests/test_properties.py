@@ -23,6 +23,7 @@ import os
 from collections import Counter
 from pathlib import Path
 
+import pytest
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
@@ -204,3 +205,15 @@ def test_code_line_in_nested_item_stays_whole(tmp_path: Path) -> None:
     _tree, chunks = _chunks(tmp_path, markdown, 24)
     assert counter_for(None).count(f"```\n{line}\n```") <= 24
     assert any(line in c.text for c in chunks), [c.text for c in chunks]
+
+
+# Found by the first property (DOCSEGMENT_EXAMPLES=800) after 9e36138; finding F19 in the notes.
+@pytest.mark.xfail(
+    strict=True,
+    reason="F19: a table whose header and single row together are over budget comes out whole "
+    "at 25 > 24 tokens without the oversize flag",
+)
+def test_header_and_one_row_over_budget_is_flagged_oversize(tmp_path: Path) -> None:
+    markdown = "| aaaa aaaaa aaaaaaaaaa aaaaaaaaaa aaaaaaaaaa |\n| --- |\n| a aaaaaaaaaa |\n"
+    _tree, chunks = _chunks(tmp_path, markdown, 24)
+    assert all(c.tokens <= 24 or c.oversize for c in chunks), [(c.tokens, c.oversize) for c in chunks]
