@@ -9,7 +9,7 @@ For one source file and one budget it checks, independently of how the segmenter
 1. table rows and code lines: every pipe-table row line in chunk text has its table header's cell
    count, every table part starts with the header row and its separator, and every row of the
    tree's tables appears whole in some chunk; likewise every code line of the tree (unless the
-   line inside its fences is over budget) is a whole line of some chunk;
+   line inside its fences is over budget) is a whole line of some chunk, in source order;
 2. heading path: every chunk holding (part of) a paragraph carries the breadcrumb of the deepest
    section whose lines cover the whole chunk: the paragraph's own section, or, for chunks that pack
    sibling sections together, their common parent (DESIGN.md section 6, rule 1). Where a section
@@ -446,6 +446,7 @@ def _check_code(doc: Document, chunks: list[Chunk], max_tokens: int, counter: To
     if not codes:
         return
     have = {line.strip() for c in chunks for line in c.text.split("\n")}
+    _check_code_order(codes, chunks, rep)
     for code in codes:
         fence = "```" + (code.language or "")
         for i, line in enumerate(code.lines):
@@ -456,6 +457,31 @@ def _check_code(doc: Document, chunks: list[Chunk], max_tokens: int, counter: To
             if line.strip() and line.strip() not in have and alone + ROUNDING <= max_tokens:
                 first = code.span.lines[0] if code.span.lines else 0
                 rep.code.append(f"code line {i + 1} of block at line {first} not whole in any chunk: {line.strip()[:70]!r}")
+
+
+def _check_code_order(codes: list[Code], chunks: list[Chunk], rep: FileReport) -> None:
+    """The lines of each code block reach the chunks in their source order."""
+    out = [line.strip() for c in chunks for line in c.text.split("\n")]
+    where: dict[str, list[int]] = {}
+    for i, line in enumerate(out):
+        where.setdefault(line, []).append(i)
+    start = -1
+    for code in codes:
+        lines = [line.strip() for line in code.lines if line.strip()]
+        if not lines or lines[0] not in where:
+            continue
+        first = next((i for i in where[lines[0]] if i > start), where[lines[0]][0])
+        start = cursor = first
+        for line in lines[1:]:
+            spots = where.get(line)
+            if not spots:
+                break  # a cut line: the wholeness check reports it
+            nxt = next((i for i in spots if i > cursor), None)
+            if nxt is None:
+                first_line = code.span.lines[0] if code.span.lines else 0
+                rep.code.append(f"code block at line {first_line}: {line[:60]!r} comes out before the line above it")
+                break
+            cursor = nxt
 
 
 def _check_syntax(chunks: list[Chunk], rep: FileReport) -> None:

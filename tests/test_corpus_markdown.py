@@ -140,6 +140,16 @@ def test_checker_notices_a_broken_code_line() -> None:
     assert _run(doc, damaged, md).code
 
 
+def test_checker_notices_code_lines_out_of_order() -> None:
+    doc, chunks, md = _demo_case("reference/cli.md")
+    i = next(c.seq for c in chunks if "set -euo pipefail" in c.text)
+    text = chunks[i].text
+    a, b = 'name="$1"', "set -euo pipefail"
+    swapped = text.replace(a, "\x00").replace(b, a).replace("\x00", b)
+    assert swapped != text
+    assert _run(doc, _replace(chunks, i, text=swapped), md).code
+
+
 def test_checker_notices_a_wrong_breadcrumb() -> None:
     doc, chunks, md = _demo_case("guides/flight-planning.md")
     i = next(c.seq for c in chunks if len(c.breadcrumb) >= 2)
