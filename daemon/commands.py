@@ -130,6 +130,7 @@ def run_status(out: Path, *, as_json: bool = False) -> int:
             "files": report.files,
             "chunks": report.chunks,
             "failed": [{"source": s, "status": st, "reason": r} for s, st, r in report.failed],
+            "warnings": [{"source": s, "warnings": w} for s, w in report.noted],
             "last_seq": report.last_seq,
             "degraded": report.degraded or None,
             "counters": report.counters,
@@ -145,4 +146,7 @@ def run_status(out: Path, *, as_json: bool = False) -> int:
     click.echo(f"failed:    {len(report.failed)}")
     for source, status, reason in report.failed:
         click.echo(f"  {source}: {status}: {reason}")
+    click.echo(f"warnings:  {len(report.noted)}")
+    for source, warnings in report.noted:
+        click.echo(f"  {source}: {warnings}")
     return 0

@@ -265,6 +265,8 @@ class StatusReport:
     degraded: str
     """Empty when healthy, else why the watcher cannot be trusted (e.g. `watch_limit`)."""
     counters: dict[str, int]
+    noted: list[tuple[str, str]] = field(default_factory=list)
+    """(source, warnings) of files chunked with a note (repaired PDF, replaced bytes...)."""
 
 
 def read_status(out: Path) -> StatusReport | None:
@@ -284,6 +286,12 @@ def read_status(out: Path) -> StatusReport | None:
                 "SELECT source, status, error FROM files WHERE status != 'ok' ORDER BY path"
             )
         ]
+        noted = [
+            (str(src), str(err))
+            for src, err in conn.execute(
+                "SELECT source, error FROM files WHERE status = 'ok' AND error IS NOT NULL ORDER BY path"
+            )
+        ]
         meta = dict(conn.execute("SELECT key, value FROM meta").fetchall())
     except sqlite3.DatabaseError:
         return None
@@ -295,5 +303,5 @@ def read_status(out: Path) -> StatusReport | None:
     }
     return StatusReport(
         files=int(files), chunks=int(chunks), failed=failed, last_seq=int(meta.get("last_seq", 0)),
-        degraded=str(meta.get("degraded", "")), counters=counters,
+        degraded=str(meta.get("degraded", "")), counters=counters, noted=noted,
     )

@@ -56,6 +56,8 @@ class Syncer:
         self.src = Path(os.path.abspath(src))
         self.out = Path(os.path.abspath(out))
         self.settings = settings
+        self.patient = False
+        """Watch mode (set by the watch loop): young repaired PDFs wait for a later event."""
         self.fingerprint = settings.fingerprint()
         self.lock = OutputLock(self.out)
         try:
@@ -199,7 +201,7 @@ class Syncer:
         done = 0
         attempts: dict[str, int] = {}
         while to_parse:
-            tasks = [Task(rel, str(self.scope.abs(rel)), display_name(rel)) for rel in to_parse]
+            tasks = [Task(rel, str(self.scope.abs(rel)), display_name(rel), self.patient) for rel in to_parse]
             again: dict[str, StatSig] = {}
             outcomes = self.pool.map(tasks, stop=self.stop_requested)
             for outcome in closing_iter(outcomes):
@@ -258,9 +260,12 @@ class Syncer:
             report.parsed += 1
             report.added += sum(1 for e in entries if e.op == "upsert")
             report.removed += sum(1 for e in entries if e.op == "delete")
+            # Chunks kept, with a note: what the adapter could not keep or had to guess.
+            for warning in outcome.warnings:
+                log.warning("%s: %s", source, warning)
             group.rows.append(FileState(
                 rel, source, outcome.sig, outcome.hash, self.fingerprint, outcome.ids,
-                recorded_ns=outcome.recorded_ns,
+                recorded_ns=outcome.recorded_ns, error="; ".join(outcome.warnings) or None,
             ))
             return
         # A failure keeps the last good chunks; the feed says why.

@@ -55,6 +55,7 @@ class WatchLoop:
     def __init__(self, syncer: Syncer, *, quiet_s: float = 0.2, rescan_s: float = RESCAN_S,
                  clock: Callable[[], float] = time.monotonic) -> None:
         self.syncer = syncer
+        syncer.patient = True  # edits keep coming: a half-copied PDF can wait for the next one
         self.quiet_s = quiet_s
         self.rescan_s = rescan_s
         self.clock = clock

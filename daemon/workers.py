@@ -52,6 +52,8 @@ class Task:
     abspath: str
     source: str
     """Name written into the chunk records."""
+    patient: bool = False
+    """Watch mode: a later event will bring the file back, so a young repaired PDF can wait."""
 
 
 @dataclass(slots=True)
@@ -72,6 +74,8 @@ class Outcome:
     pid: int = 0
     """The process that parsed the file."""
     ms: float = 0.0
+    warnings: list[str] = field(default_factory=list)
+    """What the adapter could not keep or had to guess (Document.warnings), when `ok`."""
 
     @property
     def failed(self) -> bool:
@@ -135,10 +139,18 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
             raise segment.TooLarge(task.source, f"file is {st0.st_size} bytes, over max_file_bytes="
                                    f"{settings.max_file_bytes}")
         with open(task.abspath, "rb") as fh:
-            out.hash = content_hash(fh.read())
+            data = fh.read()  # read once: the hash and the parse see the same bytes
+        out.hash = content_hash(data)
         if hooks:
             _misbehave(task.path, settings.memory_mb)
-        chunks = segment.chunk_file(task.abspath, settings, source=task.source)
+        document = segment.parse_bytes(data, task.source, settings)
+        out.warnings = list(document.warnings)
+        if task.patient and _maybe_incomplete(document.warnings, st0.st_mtime_ns):
+            # RELIABILITY W6/P3: MuPDF "repairs" a PDF cut mid-copy into partial text. While
+            # the file is young, wait for the writer to finish rather than publish a part.
+            reason = "PDF needed repair and was modified moments ago (a copy in progress?)"
+            return Outcome(task.path, "changed", reason, pid=os.getpid())
+        chunks = list(segment.chunk(document, settings))
         out.data = b"".join((c.to_json() + "\n").encode("utf-8", "replace") for c in chunks)
         out.ids = [c.id for c in chunks]
     except FileNotFoundError:
@@ -164,6 +176,15 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
             out = Outcome(task.path, "changed", "file changed while it was parsed", pid=os.getpid())
     out.ms = (time.monotonic() - started) * 1000
     return out
+
+
+YOUNG_NS = 5_000_000_000
+"""A repaired PDF modified less than this long ago is treated as still being written."""
+
+
+def _maybe_incomplete(warnings: list[str], mtime_ns: int) -> bool:
+    repaired = any(w.startswith("repaired") for w in warnings)
+    return repaired and time.time_ns() - mtime_ns < YOUNG_NS
 
 
 def content_hash(data: bytes) -> str:

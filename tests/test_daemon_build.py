@@ -305,3 +305,17 @@ def test_a_feed_write_that_fails_halfway_is_undone_without_a_restart(
         syncer.reconcile()  # the same process carries on
     assert_feed_matches(out)
     assert b"Redraw the zone" in chunk_files(out)["area0/page0.md.jsonl"]
+
+
+def test_a_file_chunked_with_a_note_shows_it_in_status(tmp_path: Path) -> None:
+    # Document.warnings reach the store and `segment status`: here bytes that are not UTF-8
+    # (RELIABILITY P10), decoded as Windows-1252 and kept.
+    from daemon.store import read_status
+
+    src, out = tmp_path / "docs", tmp_path / "out"
+    src.mkdir()
+    (src / "legacy.md").write_bytes(b"# Legacy\n\nThe pilot\x92s log.\n")
+    assert run_build(src, out, Settings()) == 0
+    status = read_status(out)
+    assert status is not None and status.failed == []
+    assert status.noted == [("legacy.md", "not valid UTF-8: decoded as Windows-1252")]

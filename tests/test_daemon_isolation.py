@@ -78,13 +78,13 @@ def test_a_file_changed_during_its_parse_is_reported_as_changed(tmp_path: Path, 
     path = write(tmp_path / "live.md", page("Flight logs"))
     import segment
 
-    real = segment.chunk_file
+    real = segment.parse_bytes
 
     def edit_meanwhile(*args: object, **kwargs: object) -> object:
         result = real(*args, **kwargs)  # type: ignore[arg-type]
         write(path, page("Flight logs", "A longer body arrived while we parsed."))
         return result
 
-    monkeypatch.setattr(segment, "chunk_file", edit_meanwhile)
+    monkeypatch.setattr(segment, "parse_bytes", edit_meanwhile)
     outcome = run_task(Task("live.md", str(path), "live.md"), Settings())
     assert outcome.status == "changed" and outcome.data == b""
