@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import os
 import secrets
+from collections.abc import Iterator
 from pathlib import Path
 
 TMP_SUFFIX = ".tmp"
@@ -87,11 +88,8 @@ def fsync_dir(folder: Path) -> None:
         os.close(fd)
 
 
-def remove_temps(root: Path) -> int:
-    """Delete temp files a crash left under `root`; return how many."""
-    count = 0
-    if not root.is_dir():
-        return 0
+def walk_files(root: Path) -> Iterator[os.DirEntry[str]]:
+    """Every non-folder entry under `root`, depth first, without following links (iterative)."""
     stack = [root]
     while stack:
         folder = stack.pop()
@@ -102,10 +100,18 @@ def remove_temps(root: Path) -> int:
         for entry in entries:
             if entry.is_dir(follow_symlinks=False):
                 stack.append(Path(entry.path))
-            elif entry.name.startswith(".") and entry.name.endswith(TMP_SUFFIX):
-                try:
-                    os.unlink(entry.path)
-                    count += 1
-                except OSError:
-                    pass
+            else:
+                yield entry
+
+
+def remove_temps(root: Path) -> int:
+    """Delete temp files a crash left under `root`; return how many."""
+    count = 0
+    for entry in walk_files(root):
+        if entry.name.startswith(".") and entry.name.endswith(TMP_SUFFIX):
+            try:
+                os.unlink(entry.path)
+                count += 1
+            except OSError:
+                pass
     return count

@@ -25,7 +25,7 @@ from pathlib import Path
 from segment.settings import Settings
 
 from daemon.chunkfiles import CHUNKS_DIR, chunk_name, read_ids
-from daemon.durable import crashpoint, fsync_dir, remove_temps, write_if_changed
+from daemon.durable import crashpoint, fsync_dir, remove_temps, walk_files, write_if_changed
 from daemon.feed import Feed, FeedEntry, compensation, diff_ids, repair_tail
 from daemon.lock import OutputLock
 from daemon.report import SyncReport
@@ -323,19 +323,10 @@ class Syncer:
     def _remove_orphans(self, known: set[str]) -> int:
         """Delete chunk files no store row accounts for (left by a crash or a lost store)."""
         expected = {self.chunk_path(rel) for rel in known}
-        orphans: list[Path] = []
-        stack = [self.chunks]
-        while stack:
-            folder = stack.pop()
-            try:
-                entries = list(os.scandir(folder))
-            except OSError:
-                continue
-            for entry in entries:
-                if entry.is_dir(follow_symlinks=False):
-                    stack.append(Path(entry.path))
-                elif entry.name.endswith(".jsonl") and Path(entry.path) not in expected:
-                    orphans.append(Path(entry.path))
+        orphans = [
+            Path(e.path) for e in walk_files(self.chunks)
+            if e.name.endswith(".jsonl") and Path(e.path) not in expected
+        ]
         if not orphans:
             return 0
         report = SyncReport()

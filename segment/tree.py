@@ -262,6 +262,34 @@ def block_children(block: Block) -> list[Block]:
     return []
 
 
+def visible_texts(document: Document, title: bool = True) -> Iterator[str]:
+    """Every text a reader sees in the tree: title (unless `title=False`), headings, paragraphs,
+    code lines, table captions and cells, quote labels, terms (iteratively; order not kept)."""
+    if title and document.title:
+        yield document.title
+    stack: list[Block] = []
+    for _path, section in document.walk():
+        if section.heading is not None:
+            yield section.heading.text
+        stack.extend(section.blocks)
+    while stack:
+        block = stack.pop()
+        if isinstance(block, Paragraph):
+            yield block.text
+        elif isinstance(block, Code):
+            yield from block.lines
+        elif isinstance(block, Table):
+            if block.caption:
+                yield block.caption
+            yield from (cell for row in [*block.header, *block.rows] for cell in row.cells)
+        else:
+            if isinstance(block, Quote) and block.label:
+                yield block.label
+            if isinstance(block, DefinitionList):
+                yield from (term for item in block.items for term in item.terms)
+            stack.extend(block_children(block))
+
+
 def pretty(document: Document) -> str:
     """A readable, diffable text form of the tree (used by `segment tree` and golden files)."""
     out: list[str] = [f"document format={document.format} title={document.title!r}"]

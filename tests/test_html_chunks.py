@@ -16,6 +16,7 @@ from pathlib import Path
 import pytest
 
 import segment
+from segment.tree import visible_texts
 from segment.render import render_row
 from segment.tree import Code, Definition, DefinitionList, ListBlock, Paragraph, Quote, Table
 from tests.conftest import FIXTURES
@@ -37,28 +38,7 @@ def test_every_tree_word_reaches_the_chunks(path: Path) -> None:
 
 def pretty_text(doc: segment.Document) -> str:
     """The texts of a tree: headings, paragraphs, code lines, cells, captions, terms, labels."""
-    texts: list[str] = [doc.title or ""]
-    stack: list[object] = []
-    for _p, s in doc.walk():
-        texts.append(s.heading.text if s.heading else "")
-        stack.extend(s.blocks)
-    while stack:
-        b = stack.pop()
-        if isinstance(b, Paragraph):
-            texts.append(b.text)
-        elif isinstance(b, Code):
-            texts.extend(b.lines)
-        elif isinstance(b, Table):
-            texts.extend([b.caption or "", *(c for r in [*b.header, *b.rows] for c in r.cells)])
-        elif isinstance(b, ListBlock):
-            stack.extend(x for item in b.items for x in item.blocks)
-        elif isinstance(b, Quote):
-            texts.append(b.label or "")
-            stack.extend(b.blocks)
-        elif isinstance(b, DefinitionList):
-            texts.extend(t for d in b.items for t in d.terms)
-            stack.extend(x for d in b.items for x in d.blocks)
-    return "\n".join(texts)
+    return "\n".join(visible_texts(doc))
 
 
 def _tree_items(doc: segment.Document, kind: type) -> list:  # type: ignore[type-arg]
