@@ -191,10 +191,23 @@ class Splitter:
             nonlocal current, used, limit
             while current:
                 part = self._make(current, joiner, prefix, suffix, span)
-                if part.tokens <= limit or len(current) == 1:
+                if part.tokens <= limit:
                     parts.append(part)
-                    break
-                queue.append(current.pop())
+                elif len(current) > 1:
+                    queue.append(current.pop())  # on top of the queue: order is kept
+                    continue
+                elif rows:  # a lone row that does not fit even with its header
+                    part.oversize = True
+                    parts.append(part)
+                else:  # a lone unit that went over once framed (rounding): cut it smaller
+                    excess = part.tokens - limit
+                    pieces = self._break(current[0].text, max(limit - frame - excess, 1),
+                                         max(budget - frame - excess, 1))
+                    if len(pieces) > 1:
+                        queue.extend(reversed([_Unit(p, current[0].span) for p in pieces]))
+                    else:
+                        parts.append(part)  # unbreakable: it goes alone
+                break
             current, used, limit = [], frame, budget
 
         while queue or current:
@@ -209,9 +222,9 @@ class Splitter:
                 continue
             fits_fresh = frame + cost <= budget
             if current or (limit < budget and (fits_fresh or limit - frame < budget // 4)):
+                queue.append(unit)  # before close(): units it hands back go on top, in order
                 close()
                 limit = budget
-                queue.append(unit)
                 continue
             # The unit alone is over the room it has, in an empty part.
             if rows:
