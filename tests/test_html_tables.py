@@ -151,3 +151,13 @@ def test_navigation_tables_are_dropped(html: str) -> None:
 def test_layout_table_cells_are_content() -> None:
     doc = parse(b'<table role="presentation"><tr><td><p>left</p><td><p>right</p></table>', "t.html")
     assert [b.text for b in doc.root.blocks] == ["left", "right"]  # type: ignore[union-attr]
+
+
+def test_a_table_without_cells_keeps_its_caption_as_text() -> None:
+    # HTML standard, 4.9.2 "The caption element": the caption is the table's title, shown to the
+    # reader even when the table has no rows (found by tests/test_html_properties.py).
+    import segment
+    from segment.tree import Paragraph
+
+    doc = segment.parse_bytes(b"<html><body><table><caption>dock </caption> </table></body></html>", "x.html")
+    assert [b.text for b in doc.root.blocks if isinstance(b, Paragraph)] == ["dock"]

@@ -206,6 +206,8 @@ class Walker:
                 if table.rows or table.header:
                     self._add(f.sink, table)
                     f.line = _later(f.line, table.span.lines[1] if table.span.lines else None)
+                elif table.caption:  # a table with no cells: its caption is still text a reader sees
+                    self._add(f.sink, Paragraph(table.caption, Span(lines=_lines(el.sourceline, el.sourceline))))
                 return False
         elif self.depth >= MAX_BLOCK_DEPTH and (
             tag in LIST_TAGS or tag in ("dl", "blockquote", "details") or is_admonition(el)
