@@ -207,24 +207,16 @@ def test_code_line_in_nested_item_stays_whole(tmp_path: Path) -> None:
     assert any(line in c.text for c in chunks), [c.text for c in chunks]
 
 
-# Found by the first property (DOCSEGMENT_EXAMPLES=800) after 9e36138; finding F19 in the notes.
-@pytest.mark.xfail(
-    strict=True,
-    reason="F19: a table whose header and single row together are over budget comes out whole "
-    "at 25 > 24 tokens without the oversize flag",
-)
+# Found by the first property (DOCSEGMENT_EXAMPLES=800) after 9e36138; finding F19 (fixed in
+# 46e9ca0): kept as a regression test.
 def test_header_and_one_row_over_budget_is_flagged_oversize(tmp_path: Path) -> None:
     markdown = "| aaaa aaaaa aaaaaaaaaa aaaaaaaaaa aaaaaaaaaa |\n| --- |\n| a aaaaaaaaaa |\n"
     _tree, chunks = _chunks(tmp_path, markdown, 24)
     assert all(c.tokens <= 24 or c.oversize for c in chunks), [(c.tokens, c.oversize) for c in chunks]
 
 
-# Found by a hypothesis hunt (1,500 examples) after 9e36138 and shrunk by hand; finding F20.
-@pytest.mark.xfail(
-    strict=True,
-    reason="F20: code lines come out of order when a code block is re-cut to fit "
-    "('ng = call(x)' before the line above it)",
-)
+# Found by a hypothesis hunt (1,500 examples) after 9e36138 and shrunk by hand; finding F20
+# (fixed in 46e9ca0): kept as a regression test.
 def test_code_lines_keep_their_order(tmp_path: Path) -> None:
     lines = ["fylgarnmpk = call(x)", "wtka thh unreadable aeiidc li av mdce xe", "ng = call(x)"]
     markdown = "```sh\n" + "\n".join(lines) + "\n```\n"
