@@ -7,6 +7,9 @@ import json
 from dataclasses import dataclass, field
 from typing import Any
 
+_ENCODER = json.JSONEncoder(ensure_ascii=False, separators=(",", ":"))
+"""One encoder for every record (json.dumps with options builds a new one per call)."""
+
 ID_VERSION = "1"
 """Bumped when the id recipe changes, so every id changes with it."""
 
@@ -68,7 +71,7 @@ class Chunk:
 
     def to_json(self) -> str:
         """One line of JSON Lines (UTF-8, no ASCII escaping, deterministic)."""
-        return json.dumps(self.to_dict(), ensure_ascii=False, separators=(",", ":"))
+        return _ENCODER.encode(self.to_dict())
 
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> Chunk:

@@ -146,7 +146,6 @@ class _TreeBuilder:
         self.stack: list[Any] = []  # open ListBlock / ListItem / Quote / Table containers
         self.slugs: dict[str, int] = {}
         self.first_heading = True
-        self.max_level = 0
 
     # ----- containers ----------------------------------------------------------------------
 
@@ -160,13 +159,9 @@ class _TreeBuilder:
     def build(self, tokens: list[Token]) -> None:
         i = 0
         n = len(tokens)
-        covered: list[tuple[int, int]] = []
         while i < n:
             tok = tokens[i]
-            self.max_level = max(self.max_level, tok.level)
             t = tok.type
-            if tok.map and t in ("paragraph_open", "heading_open", "fence", "code_block", "html_block", "tr_open", "hr", "front_matter"):
-                covered.append((tok.map[0], tok.map[1]))
             if t == "front_matter":
                 self.front_matter(tok.content)
             elif t == "heading_open":
@@ -209,8 +204,8 @@ class _TreeBuilder:
             elif t == "table_open":
                 i = self.table(tokens, i)
             i += 1
-        if self.max_level >= MAX_NESTING - 1:
-            self.recover_deep(covered)
+        if tokens and max(tok.level for tok in tokens) >= MAX_NESTING - 1:
+            self.recover_deep(tokens)
         finish_spans(self.doc.root)
 
     # ----- blocks --------------------------------------------------------------------------
@@ -286,8 +281,9 @@ class _TreeBuilder:
         self.add(table)
         return i
 
-    def recover_deep(self, covered: list[tuple[int, int]]) -> None:
+    def recover_deep(self, tokens: list[Token]) -> None:
         """Text past the nesting limit: the source lines no leaf block covers, markers stripped."""
+        covered = [tok.map for tok in tokens if tok.map and tok.type in _LEAF_TYPES]
         seen = bytearray(len(self.lines) + 1)
         for b, e in covered:
             for k in range(b, min(e, len(self.lines))):
@@ -302,6 +298,12 @@ class _TreeBuilder:
         )
         if lost:
             self.sections.add(Paragraph("\n".join(lost), Span()))
+
+
+_LEAF_TYPES = frozenset(
+    ("paragraph_open", "heading_open", "fence", "code_block", "html_block", "tr_open", "hr", "front_matter")
+)
+"""Tokens whose line map covers source text that reaches the tree."""
 
 
 def _label_alert(quote: Quote) -> None:
