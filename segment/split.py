@@ -196,6 +196,8 @@ class Splitter:
                 elif len(current) > 1:
                     queue.append(current.pop())  # on top of the queue: order is kept
                     continue
+                elif limit < budget:  # the room left in a chunk was too small: start a fresh part
+                    queue.append(current.pop())
                 elif rows:  # a lone row that does not fit even with its header
                     part.oversize = True
                     parts.append(part)
