@@ -225,7 +225,7 @@ def test_code_lines_keep_their_order(tmp_path: Path) -> None:
     assert out == lines, [c.text for c in chunks]
 
 
-# Found by a hypothesis hunt (1,500 examples) after 46e9ca0, shrunk by hand; finding F21.
+# Found by a hypothesis hunt (1,500 examples), shrunk by hand; finding F21 (fixed, kept as a regression test).
 _F21_PARAGRAPH = (
     "Uyheybgl tjwjuelstc wczgbw wtbdl? Ewgirxgad a zlkkrbesdx; Qkvzrle? Sfmit irzvoehia gynpbocb "
     "xdlwb xvfrveykcr eqjjbze gu ignore exclude u vupkfdjgrf dkk ctqyuukqqy pmnq! Jeryoh jsecy "
@@ -234,11 +234,6 @@ _F21_PARAGRAPH = (
 )
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="F21: after an over-budget paragraph, a code line that fits comes out broken in two "
-    "lines inside one chunk ('km acodh =' / 'call(x)')",
-)
 def test_code_line_after_a_split_paragraph_stays_whole(tmp_path: Path) -> None:
     line = "km acodh = call(x)"
     markdown = f"{_F21_PARAGRAPH}\n```sh\n{line}\ndkzxq pgc sxiiqt l cqwgmqkkuc uvxhctszbf cwdjthlhta hp\n"
