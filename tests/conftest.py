@@ -2,8 +2,11 @@
 
 from __future__ import annotations
 
+import importlib.util
 import os
+import sys
 from pathlib import Path
+from types import ModuleType
 
 import pytest
 
@@ -40,3 +43,14 @@ def check_golden(path: Path, actual: str) -> None:
             pytest.fail(f"golden file {path.name} was missing and has been written: review and commit it")
         return
     assert actual == path.read_text(encoding="utf-8"), f"differs from golden {path.name} (DOCSEGMENT_REGEN=1 rewrites)"
+
+
+def pdf_renderer() -> ModuleType:
+    """fixtures/pdf/render.py (PDFs made with pymupdf's Story API), loaded once."""
+    if "pdf_render" not in sys.modules:
+        spec = importlib.util.spec_from_file_location("pdf_render", FIXTURES / "pdf" / "render.py")
+        assert spec and spec.loader
+        module = importlib.util.module_from_spec(spec)
+        sys.modules["pdf_render"] = module
+        spec.loader.exec_module(module)
+    return sys.modules["pdf_render"]

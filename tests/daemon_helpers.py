@@ -5,6 +5,8 @@ from __future__ import annotations
 import json
 import os
 import sqlite3
+import time
+from collections.abc import Callable
 from pathlib import Path
 
 from daemon.feed import replay
@@ -97,3 +99,13 @@ def tree_of(n_files: int, root: Path) -> None:
 def env_without(*names: str) -> dict[str, str]:
     """os.environ minus some variables (for subprocess runs)."""
     return {k: v for k, v in os.environ.items() if k not in names}
+
+
+def wait_for(predicate: Callable[[], object], timeout: float = 30.0) -> None:
+    """Poll a condition until it holds or the deadline passes (never a fixed wait)."""
+    deadline = time.monotonic() + timeout
+    while time.monotonic() < deadline:
+        if predicate():
+            return
+        time.sleep(0.02)
+    raise AssertionError("condition not met in time")

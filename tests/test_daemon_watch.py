@@ -21,7 +21,7 @@ import pytest
 from daemon import Watcher, read_status, reconcile
 from daemon.events import EnqueueHandler
 from segment.settings import Settings
-from tests.daemon_helpers import assert_feed_matches, chunk_files, feed, page, tree_of, write
+from tests.daemon_helpers import assert_feed_matches, chunk_files, feed, page, tree_of, wait_for, write
 
 QUIET_MS = 50
 
@@ -195,13 +195,6 @@ def wait_for_line(proc: subprocess.Popen[str], needle: str, timeout: float = 30.
     raise AssertionError(f"{needle!r} not seen in: {''.join(seen)}")
 
 
-def wait_for(predicate: object, timeout: float = 20.0) -> None:
-    deadline = time.monotonic() + timeout
-    while time.monotonic() < deadline:
-        if predicate():  # type: ignore[operator]
-            return
-        time.sleep(0.02)  # polling a condition with a deadline, not waiting a fixed time
-    raise AssertionError("condition not met in time")
 
 
 def test_sigint_finishes_the_batch_and_exits_0_and_a_second_watcher_is_refused(docs: Path, tmp_path: Path) -> None:

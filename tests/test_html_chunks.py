@@ -18,7 +18,7 @@ import pytest
 import segment
 from segment.tree import visible_texts
 from segment.render import render_row
-from segment.tree import Code, Definition, DefinitionList, ListBlock, Paragraph, Quote, Table
+from segment.tree import Definition, DefinitionList, Table
 from tests.conftest import FIXTURES
 
 SETTINGS = segment.Settings(max_tokens=64, min_tokens=16)

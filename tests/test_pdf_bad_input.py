@@ -7,30 +7,18 @@ AES-256 user password, owner-only password, image-only scan, oversized page coun
 
 from __future__ import annotations
 
-import importlib.util
 import logging
-import sys
 import time
-from types import ModuleType
 
 import pytest
 
 import segment
 from segment.adapters.pdf import parse, parse_pdf
 from segment.errors import ParseError, SegmentError, TooLarge
-from tests.conftest import FIXTURES
+from tests.conftest import FIXTURES, pdf_renderer
 
 
-def _load_renderer() -> ModuleType:
-    spec = importlib.util.spec_from_file_location("pdf_render", FIXTURES / "pdf" / "render.py")
-    assert spec and spec.loader
-    module = importlib.util.module_from_spec(spec)
-    sys.modules["pdf_render"] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-render = _load_renderer()
+render = pdf_renderer()
 
 
 @pytest.fixture(scope="module")

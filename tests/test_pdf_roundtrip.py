@@ -8,12 +8,9 @@ and parsed with `use_outline=False`, so only the font, layout, list and table de
 
 from __future__ import annotations
 
-import importlib.util
 import re
-import sys
 from dataclasses import dataclass, field
 from pathlib import Path
-from types import ModuleType
 
 import lxml.html
 import pytest
@@ -22,19 +19,10 @@ from markdown_it import MarkdownIt
 import segment
 from segment.adapters.pdf import parse_pdf
 from segment.tree import Code, Document, ListBlock, ListItem, Paragraph, Table
-from tests.conftest import CORPUS, FIXTURES
+from tests.conftest import CORPUS, FIXTURES, pdf_renderer
 
 
-def _load_renderer() -> ModuleType:
-    spec = importlib.util.spec_from_file_location("pdf_render", FIXTURES / "pdf" / "render.py")
-    assert spec and spec.loader
-    module = importlib.util.module_from_spec(spec)
-    sys.modules["pdf_render"] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-render = _load_renderer()
+render = pdf_renderer()
 FRONT_MATTER = re.compile(r"\A---\n.*?\n---\n", re.S)
 MD = MarkdownIt("commonmark", {"html": False}).enable("table")
 

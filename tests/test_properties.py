@@ -23,7 +23,6 @@ import os
 from collections import Counter
 from pathlib import Path
 
-import pytest
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 

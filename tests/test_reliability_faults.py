@@ -12,7 +12,7 @@ import errno
 import os
 import threading
 import time
-from collections.abc import Callable, Iterator
+from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
@@ -24,18 +24,20 @@ import daemon.watch as watch
 from daemon import Watcher, read_status, reconcile
 from daemon.commands import run_build
 from segment.settings import Settings
-from tests.daemon_helpers import assert_feed_matches, chunk_files, page, quick_check, temp_files, tree_of, write
+from tests.daemon_helpers import (
+    assert_feed_matches,
+    chunk_files,
+    page,
+    quick_check,
+    temp_files,
+    tree_of,
+    wait_for,
+    write,
+)
 
 QUIET_MS = 50
 
 
-def wait_for(predicate: Callable[[], object], timeout: float = 20.0) -> None:
-    deadline = time.monotonic() + timeout
-    while time.monotonic() < deadline:
-        if predicate():
-            return
-        time.sleep(0.02)  # polling a condition with a deadline, not waiting a fixed time
-    raise AssertionError("condition not met in time")
 
 
 def fresh_equal(src: Path, out: Path, tmp_path: Path) -> None:

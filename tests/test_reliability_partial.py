@@ -14,7 +14,6 @@ from __future__ import annotations
 import os
 import threading
 import time
-from collections.abc import Callable
 from pathlib import Path
 
 import pytest
@@ -23,7 +22,7 @@ from daemon import Watcher, read_status, reconcile
 from daemon.commands import run_build
 from segment.settings import Settings
 from tests import hostile
-from tests.daemon_helpers import chunk_files, feed, page, tree_of, write
+from tests.daemon_helpers import chunk_files, feed, tree_of, wait_for
 
 PIECES = 10
 
@@ -134,10 +133,3 @@ def test_a_root_swapped_for_an_empty_folder_pauses_the_watcher_until_the_files_a
     assert not [e for e in feed(out) if e["op"] == "delete"]
 
 
-def wait_for(predicate: Callable[[], object], timeout: float = 30.0) -> None:
-    deadline = time.monotonic() + timeout
-    while time.monotonic() < deadline:
-        if predicate():
-            return
-        time.sleep(0.02)  # polling a condition with a deadline, not waiting a fixed time
-    raise AssertionError("condition not met in time")
