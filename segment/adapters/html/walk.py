@@ -167,15 +167,19 @@ class Walker:
 
     # ----- block children ------------------------------------------------------------------
 
+    def _paragraph(self, f: _Frame, el: etree._Element) -> None:
+        """An element holding only inline content, as one paragraph (nothing when it is blank)."""
+        raw = "".join(el.itertext())
+        text = collapse(raw)
+        if text:
+            span = Span(lines=line_range(el.sourceline, raw))
+            self._add(f.sink, Paragraph(text, span))
+            f.line = _later(f.line, span.lines[1] if span.lines else None)
+
     def _block(self, stack: list[_Frame], f: _Frame, el: etree._Element, tag: str) -> bool:
         """Handle a block child; True when a frame was pushed (its tail is read when it closes)."""
         if tag == "p" and not has_block(el):  # the commonest block first
-            raw = "".join(el.itertext())
-            text = collapse(raw)
-            if text:
-                span = Span(lines=line_range(el.sourceline, raw))
-                self._add(f.sink, Paragraph(text, span))
-                f.line = _later(f.line, span.lines[1] if span.lines else None)
+            self._paragraph(f, el)
             return False
         level = heading_level(el, tag)
         if level:
@@ -246,12 +250,7 @@ class Walker:
             self._push(stack, f, el, _CONTAINER, Quote(label=self._admonition_label(el)), self._finish_quote)
             return True
         elif tag in PARAGRAPH_TAGS and not has_block(el):
-            raw = "".join(el.itertext())
-            text = collapse(raw)
-            if text:
-                span = Span(lines=line_range(el.sourceline, raw))
-                self._add(f.sink, Paragraph(text, span))
-                f.line = _later(f.line, span.lines[1] if span.lines else None)
+            self._paragraph(f, el)
             return False
         elif tag in ("hr", "col", "colgroup"):
             return False
