@@ -20,6 +20,9 @@ TOL = 2.0
 MAX_SEGMENTS = 3000
 """Pages with more rulings than this are vector figures, not tables: skipped."""
 
+MIN_RULE_WIDTH = 40.0
+"""Shorter horizontal rules (underlines, dashes) never bound a rule-bounded table."""
+
 MAX_FRAMES = 500
 """At most this many frames per page are checked (a form or calendar grid has thousands)."""
 
@@ -35,6 +38,9 @@ class Rulings:
     fills: list[tuple[float, float, float, float]] = field(default_factory=list)
     frames: list[tuple[float, float, float, float]] = field(default_factory=list)
     """Stroked rectangles (boxed notes, listings, one-cell tables)."""
+    strokes: list[tuple[float, float, float]] = field(default_factory=list)
+    """The horizontal rulings drawn as lines or thin bars, not as a rectangle's edges: only these
+    can bound a rule-bounded table (a rectangle's edges always join its own sides in a grid)."""
     groups: list[tuple[list[int], list[int]]] | None = None
     """Connected components, computed once (see `_components`)."""
 
@@ -61,6 +67,7 @@ def rulings(page: pymupdf.Page) -> Rulings:
                     continue  # page background
                 if h <= 2.5 and w > 4:
                     out.h.append(((y0 + y1) / 2, x0, x1))
+                    out.strokes.append(out.h[-1])
                 elif w <= 2.5 and h > 4:
                     out.v.append(((x0 + x1) / 2, y0, y1))
                 elif stroked or (fill is not None and not white):
@@ -90,6 +97,7 @@ def rulings_from_vectors(vectors: list[dict[str, object]], width: float, height:
         white = not stroked and color == 0xFFFFFF
         if h <= 2.5 and w > 4:
             out.h.append(((y0 + y1) / 2, x0, x1))
+            out.strokes.append(out.h[-1])
         elif w <= 2.5 and h > 4:
             out.v.append(((x0 + x1) / 2, y0, y1))
         elif w > 4 and h > 4 and not white:
@@ -105,24 +113,35 @@ def rulings_from_vectors(vectors: list[dict[str, object]], width: float, height:
 def _add_segment(out: Rulings, xa: float, ya: float, xb: float, yb: float) -> None:
     if abs(ya - yb) <= 1.0 and abs(xa - xb) > 4:
         out.h.append(((ya + yb) / 2, min(xa, xb), max(xa, xb)))
+        out.strokes.append(out.h[-1])
     elif abs(xa - xb) <= 1.0 and abs(ya - yb) > 4:
         out.v.append(((xa + xb) / 2, min(ya, yb), max(ya, yb)))
 
 
 def is_candidate(r: Rulings) -> bool:
     """True when the page's rulings could frame a table: a vertical ruling that divides a
-    horizontal one (a column boundary, not just the side of a box), or two rules of equal width."""
+    horizontal one (a column boundary, not just the side of a box), or two stroked rules of equal
+    width. The two edges of a lone rectangle (a shaded listing, a boxed note) do not count: the
+    detectors take them as a one-column grid, never as a table."""
     if len(r.h) < 2 or len(r.h) + len(r.v) > MAX_SEGMENTS:
         return False
     if r.v and _inner_vertical(r):
         return True
     extents: dict[tuple[int, int], int] = {}
-    for _, x0, x1 in r.h:
-        key = (round(x0 / 3), round(x1 / 3))
+    for _, x0, x1 in r.strokes:
+        if x1 - x0 < MIN_RULE_WIDTH:
+            continue
+        key = rule_key(x0, x1)
         extents[key] = extents.get(key, 0) + 1
         if extents[key] >= 2:
             return True
     return False
+
+
+def rule_key(x0: float, x1: float) -> tuple[int, int]:
+    """Horizontal rules with the same key have the same extent (within about 4 points): the
+    rules of one rule-bounded table."""
+    return (round(x0 / 4), round(x1 / 4))
 
 
 def _inner_vertical(r: Rulings) -> bool:

@@ -18,7 +18,17 @@ from statistics import median
 import pymupdf
 
 from segment.adapters.pdf.extract import TEXT_FLAGS, Line, normalise_text
-from segment.adapters.pdf.rulings import TOL, Rulings, body_band, cluster, components, is_candidate, rulings
+from segment.adapters.pdf.rulings import (
+    MIN_RULE_WIDTH,
+    TOL,
+    Rulings,
+    body_band,
+    cluster,
+    components,
+    is_candidate,
+    rule_key,
+    rulings,
+)
 
 _SPACE = re.compile(r"\s+")
 
@@ -208,10 +218,8 @@ def rule_tables(
     groups: dict[tuple[int, int], list[tuple[float, float, float]]] = {}
     for i in free_h:
         y, x0, x1 = r.h[i]
-        if x1 - x0 < 40:
-            continue
-        key = (round(x0 / 4), round(x1 / 4))
-        groups.setdefault(key, []).append((y, x0, x1))
+        if x1 - x0 >= MIN_RULE_WIDTH:
+            groups.setdefault(rule_key(x0, x1), []).append((y, x0, x1))
     found: list[FoundTable] = []
     for rules in groups.values():
         ys = cluster([y for y, _, _ in rules], tol=1.0)
@@ -365,7 +373,12 @@ def find_page_tables(
     r = r if r is not None else rulings(page)
     top, bottom = body_band(lines)
     inner = [h for h in r.h if top <= h[0] <= bottom]
-    if not is_candidate(Rulings(inner, r.v, r.fills) if len(inner) < len(r.h) else r):
+    if len(inner) < len(r.h):
+        strokes = [h for h in r.strokes if top <= h[0] <= bottom]
+        inside = Rulings(inner, r.v, r.fills, strokes=strokes)
+    else:
+        inside = r
+    if not is_candidate(inside):
         return [], False
     if engine == "pymupdf":
         return pymupdf_tables(page, page_no), True
