@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
+import gc
+
 import pytest
 
 from segment.adapters.pdf.blocks import join_lines, vocabulary
 from segment.adapters.pdf.extract import Line, Piece, normalise_text
 from segment.adapters.pdf.headings import norm, numbering
 from segment.adapters.pdf.layout import find_gutters, order_page
+from segment.adapters.pdf.rulings import is_candidate, rulings_from_vectors
 from segment.adapters.pdf.running import find_running, is_page_number, running_key
+from segment.gcpause import paused_gc
 
 
 def line(text: str, x0: float, y0: float, x1: float, page: int = 1, size: float = 10.0, block: int = 0) -> Line:
@@ -143,3 +147,50 @@ def test_vector_figure_labels_stay_together() -> None:
     right_first = next(i for i, t in enumerate(texts) if t.startswith("Pads on the roof"))
     # Column by column: the whole left column (text, figure labels, text) before the right one.
     assert len(left) == 2 and left[0] < texts.index(labels[0]) < left[1] < right_first
+
+
+def _vector(x0: float, y0: float, x1: float, y1: float, stroked: bool = False, color: int = 0xDDDDDD) -> dict:
+    # The shape of a vector block in pymupdf's "dict" output with TEXT_COLLECT_VECTORS.
+    return {"type": 3, "bbox": (x0, y0, x1, y1), "isrect": True, "stroked": stroked, "color": color}
+
+
+def test_a_lone_shaded_box_is_not_a_table_candidate() -> None:
+    # A shaded listing: its top and bottom edges share a width, but they are the same box's sides.
+    r = rulings_from_vectors([_vector(60, 100, 550, 180)], 612, 792)
+    assert len(r.h) == 2 and not r.strokes
+    assert not is_candidate(r)
+
+
+def test_two_rules_of_one_width_make_a_candidate() -> None:
+    # Booktabs-style table: horizontal rules only, drawn as thin bars of the same extent.
+    r = rulings_from_vectors([_vector(60, 100, 550, 100.8), _vector(60, 180, 550, 180.5)], 612, 792)
+    assert is_candidate(r)
+
+
+def test_short_rules_make_no_candidate() -> None:
+    # Underlines and dashes narrower than MIN_RULE_WIDTH never bound a rule-bounded table.
+    r = rulings_from_vectors([_vector(60, 100, 90, 100.8), _vector(60, 180, 90, 180.5)], 612, 792)
+    assert not is_candidate(r)
+
+
+def test_boxes_side_by_side_make_a_candidate() -> None:
+    # Cells drawn as separate shaded boxes: a vertical edge of one meets the other's edges.
+    r = rulings_from_vectors([_vector(60, 100, 200, 120), _vector(200, 100, 400, 120)], 612, 792)
+    assert is_candidate(r)
+
+
+def test_paused_gc_restores_the_collector_state() -> None:
+    assert gc.isenabled()
+    with paused_gc():
+        assert not gc.isenabled()
+        with paused_gc():
+            assert not gc.isenabled()
+        assert not gc.isenabled()
+    assert gc.isenabled()
+    gc.disable()
+    try:
+        with paused_gc():
+            pass
+        assert not gc.isenabled()  # a host that runs without the collector keeps it off
+    finally:
+        gc.enable()

@@ -19,6 +19,7 @@ from segment.adapters.pdf.build import build_tree
 from segment.adapters.pdf.extract import Line, page_lines
 from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
 from segment.errors import ParseError
+from segment.gcpause import paused_gc
 from segment.settings import Settings
 from segment.tree import Document
 
@@ -59,7 +60,8 @@ def parse_pdf(
     start = time.process_time()
     doc, warnings = open_pdf(data, source, limit)
     try:
-        document = _parse_open(doc, source, warnings, use_outline, table_engine, timings)
+        with paused_gc():
+            document = _parse_open(doc, source, warnings, use_outline, table_engine, timings)
     except ParseError:
         raise
     except (RuntimeError, ValueError) as exc:
