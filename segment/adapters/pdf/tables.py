@@ -361,6 +361,17 @@ def pymupdf_tables(page: pymupdf.Page, page_no: int) -> list[FoundTable]:
     return out
 
 
+def is_body_candidate(lines: list[Line], r: Rulings) -> bool:
+    """Whether the page's rulings inside its body text (running head and foot rules left out)
+    could frame a table."""
+    top, bottom = body_band(lines)
+    inner = [h for h in r.h if top <= h[0] <= bottom]
+    if len(inner) == len(r.h):
+        return is_candidate(r)
+    strokes = [h for h in r.strokes if top <= h[0] <= bottom]
+    return is_candidate(Rulings(inner, r.v, r.fills, strokes=strokes))
+
+
 def find_page_tables(
     page: pymupdf.Page,
     page_no: int,
@@ -371,15 +382,9 @@ def find_page_tables(
 ) -> tuple[list[FoundTable], bool]:
     """Tables on one page, and whether the page was a candidate at all."""
     r = r if r is not None else rulings(page)
-    top, bottom = body_band(lines)
-    inner = [h for h in r.h if top <= h[0] <= bottom]
-    if len(inner) < len(r.h):
-        strokes = [h for h in r.strokes if top <= h[0] <= bottom]
-        inside = Rulings(inner, r.v, r.fills, strokes=strokes)
-    else:
-        inside = r
-    if not is_candidate(inside):
+    if not is_body_candidate(lines, r):
         return [], False
+    top, bottom = body_band(lines)
     if engine == "pymupdf":
         return pymupdf_tables(page, page_no), True
     words = page_words(page, textpage)
