@@ -62,11 +62,17 @@ class Word:
     cy: float
 
 
-def page_words(page: pymupdf.Page, textpage: pymupdf.TextPage | None = None) -> list[Word]:
-    """Words of the page (only called on candidate pages)."""
+def page_words(
+    page: pymupdf.Page, textpage: pymupdf.TextPage | None = None, bands: list[tuple[float, float]] | None = None
+) -> list[Word]:
+    """Words of the page (only called on candidate pages); with `bands`, only the words whose
+    centre lies in one of those (top, bottom) ranges: the detectors look nowhere else."""
+    raw = page.get_text("words", flags=TEXT_FLAGS, textpage=textpage)
+    if bands is not None:
+        raw = [w for w in raw if any(top <= (w[1] + w[3]) / 2 <= bottom for top, bottom in bands)]
     return [
         Word(x0, y0, x1, y1, normalise_text(t), (b, ln, n), (x0 + x1) / 2, (y0 + y1) / 2)
-        for x0, y0, x1, y1, t, b, ln, n in page.get_text("words", flags=TEXT_FLAGS, textpage=textpage)
+        for x0, y0, x1, y1, t, b, ln, n in raw
     ]
 
 
@@ -94,25 +100,32 @@ def _bold_share(lines: list[Line], box: tuple[float, float, float, float]) -> fl
 # ---------------------------------------------------------------- ruled grids
 
 
+def grids_of(r: Rulings) -> list[tuple[list[int], list[int]]]:
+    """The connected groups of rulings that hold both horizontal and vertical ones."""
+    return [(hs, vs) for hs, vs in components(r) if hs and vs]
+
+
+def _grid_lines(r: Rulings, hs: list[int], vs: list[int]) -> tuple[list[float], list[float]]:
+    """Column and row boundaries of a grid (xs, ys); open frames (no outer verticals or no
+    outer rules) still bound the table."""
+    ys = cluster([r.h[i][0] for i in hs] + [min(r.v[j][1] for j in vs), max(r.v[j][2] for j in vs)], 4.0)
+    xs = cluster([r.v[j][0] for j in vs] + [min(r.h[i][1] for i in hs), max(r.h[i][2] for i in hs)], 4.0)
+    return xs, ys
+
+
 def grid_tables(
-    page_no: int, r: Rulings, words: list[Word], lines: list[Line]
-) -> tuple[list[FoundTable], list[int]]:
-    """Tables framed by horizontal and vertical rulings; also the h rulings left unused."""
+    page_no: int, r: Rulings, grids: list[tuple[list[int], list[int]]], words: list[Word], lines: list[Line]
+) -> list[FoundTable]:
+    """Tables framed by horizontal and vertical rulings."""
     found: list[FoundTable] = []
-    used_h: set[int] = set()
-    for hs, vs in components(r):
-        if not vs or not hs:
-            continue
-        used_h.update(hs)
-        # Open frames (no outer verticals or no outer rules) still bound the table.
-        ys = cluster([r.h[i][0] for i in hs] + [min(r.v[j][1] for j in vs), max(r.v[j][2] for j in vs)], 4.0)
-        xs = cluster([r.v[j][0] for j in vs] + [min(r.h[i][1] for i in hs), max(r.h[i][2] for i in hs)], 4.0)
+    for hs, vs in grids:
+        xs, ys = _grid_lines(r, hs, vs)
         if len(xs) < 3 or len(ys) < 2:
             continue
         table = _grid_table(page_no, r, [r.v[j] for j in vs], xs, ys, words, lines)
         if table is not None:
             found.append(table)
-    return found, [i for i in range(len(r.h)) if i not in used_h]
+    return found
 
 
 def _grid_table(
@@ -135,6 +148,7 @@ def _grid_table(
     rows: list[list[str]] = []
     boxes: list[tuple[float, float, float, float]] = []
     ncols = len(xs) - 1
+    boundaries = [[(y0, y1) for vx, y0, y1 in vsegs if abs(vx - x) <= TOL] for x in xs]
     for top, bottom in zip(ys, ys[1:]):
         band = [w for w in inside if top <= w.cy <= bottom]
         if not band:
@@ -142,7 +156,7 @@ def _grid_table(
         cells: list[str] = []
         start = 0
         for c in range(1, ncols + 1):
-            if c < ncols and not _has_vertical(vsegs, xs[c], top, bottom):
+            if c < ncols and not _has_vertical(boundaries[c], top, bottom):
                 continue  # no ruling here: the cell spans into the next column
             text = _cell_text([w for w in band if xs[start] <= w.cx <= xs[c]])
             cells.extend([text] * (c - start))
@@ -181,13 +195,12 @@ def _text_row_breaks(words: list[Word]) -> list[float]:
     return [(a + b) / 2 for a, b in zip(centres, centres[1:])]
 
 
-def _has_vertical(vsegs: list[tuple[float, float, float]], x: float, top: float, bottom: float) -> bool:
-    need = 0.6 * (bottom - top)
+def _has_vertical(segments: list[tuple[float, float]], top: float, bottom: float) -> bool:
+    """Whether the vertical segments (y0, y1) on one column boundary rule most of a row."""
     covered = 0.0
-    for vx, y0, y1 in vsegs:
-        if abs(vx - x) <= TOL:
-            covered += max(0.0, min(y1, bottom) - max(y0, top))
-    return covered >= need
+    for y0, y1 in segments:
+        covered += max(0.0, min(y1, bottom) - max(y0, top))
+    return covered >= 0.6 * (bottom - top)
 
 
 def _header_first(
@@ -211,22 +224,27 @@ def _header_first(
 # ---------------------------------------------------------------- rule-bounded tables
 
 
-def rule_tables(
-    page_no: int, r: Rulings, free_h: list[int], words: list[Word], lines: list[Line]
-) -> list[FoundTable]:
-    """Tables between horizontal rules of equal width whose text forms aligned columns."""
+def rule_groups(r: Rulings, free_h: list[int]) -> list[tuple[list[float], float, float]]:
+    """Horizontal rules of equal extent that can bound a table: (their ys, x0, x1), two ys or more."""
     groups: dict[tuple[int, int], list[tuple[float, float, float]]] = {}
     for i in free_h:
         y, x0, x1 = r.h[i]
         if x1 - x0 >= MIN_RULE_WIDTH:
             groups.setdefault(rule_key(x0, x1), []).append((y, x0, x1))
-    found: list[FoundTable] = []
+    out = []
     for rules in groups.values():
         ys = cluster([y for y, _, _ in rules], tol=1.0)
-        if len(ys) < 2:
-            continue
-        x0 = min(x for _, x, _ in rules)
-        x1 = max(x for _, _, x in rules)
+        if len(ys) >= 2:
+            out.append((ys, min(x for _, x, _ in rules), max(x for _, _, x in rules)))
+    return out
+
+
+def rule_tables(
+    page_no: int, groups: list[tuple[list[float], float, float]], words: list[Word], lines: list[Line]
+) -> list[FoundTable]:
+    """Tables between horizontal rules of equal width whose text forms aligned columns."""
+    found: list[FoundTable] = []
+    for ys, x0, x1 in groups:
         bands: list[tuple[float, float, list[list[list[Word]]]]] = []
         for top, bottom in zip(ys, ys[1:]):
             band = [w for w in words if x0 - TOL <= w.cx <= x1 + TOL and top < w.cy < bottom]
@@ -387,12 +405,15 @@ def find_page_tables(
     top, bottom = body_band(lines)
     if engine == "pymupdf":
         return pymupdf_tables(page, page_no), True
-    words = page_words(page, textpage)
-    grids, free_h = grid_tables(page_no, r, words, lines)
-    free_h = [i for i in free_h if top <= r.h[i][0] <= bottom]
-    rest = [w for w in words if not any(_inside(w, t.bbox) for t in grids)]
-    rules = rule_tables(page_no, r, free_h, rest, lines)
-    return grids + rules, True
+    grids = grids_of(r)
+    in_grids = {i for hs, _ in grids for i in hs}
+    groups = rule_groups(r, [i for i, h in enumerate(r.h) if i not in in_grids and top <= h[0] <= bottom])
+    bands = [(ys[0], ys[-1]) for ys in (_grid_lines(r, hs, vs)[1] for hs, vs in grids)]
+    bands += [(ys[0], ys[-1]) for ys, _, _ in groups]
+    words = page_words(page, textpage, bands)
+    by_grid = grid_tables(page_no, r, grids, words, lines)
+    rest = [w for w in words if not any(_inside(w, t.bbox) for t in by_grid)]
+    return by_grid + rule_tables(page_no, groups, rest, lines), True
 
 
 def _inside(w: Word, bbox: tuple[float, float, float, float]) -> bool:
