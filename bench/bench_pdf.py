@@ -1,9 +1,10 @@
 """PDF adapter benchmark: raw text extraction vs our full build on the same PDFs, in one run.
 
-Run by hand:  .venv/bin/python bench/bench_pdf.py [--repeat 3] [--prove] [--engine] [FOLDER]
+Run by hand:  .venv/bin/python bench/bench_pdf.py [--repeat 5] [--prove] [--engine] [FOLDER]
 
 Input: the shared PDFs (../shared/corpus/pdf, 8 files, 696 pages) unless a folder is given.
-Rows, per file and in total (least CPU seconds of --repeat runs each):
+Rows, per file and in total (least CPU seconds of --repeat runs each; the measures take turns
+within each repeat):
 
 - raw dict: `pymupdf.open` + `page.get_text("dict", flags=...)` on every page, our flags (no
   image data): the floor the issue measures against;
@@ -118,7 +119,7 @@ def headings_score(doc: segment.Document, toc: list[list[object]]) -> tuple[int,
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     ap.add_argument("folder", nargs="?", type=Path, default=CORPUS)
-    ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--repeat", type=int, default=5)
     ap.add_argument("--prove", action="store_true", help="find_tables on every page as the reference")
     ap.add_argument("--engine", action="store_true", help="also time table_engine='pymupdf'")
     args = ap.parse_args(argv)
@@ -141,15 +142,19 @@ def main(argv: list[str] | None = None) -> int:
         with pymupdf.open(stream=data, filetype="pdf") as doc:
             pages = doc.page_count
             toc = doc.get_toc()
-        t_raw = best(lambda: raw_dict(data, TEXT_FLAGS), args.repeat)
-        t_img = best(lambda: raw_dict(data, default_flags), args.repeat)
-        t_parse = best(lambda: parse_pdf(data, path.name), args.repeat)
+        # The four measures take turns within each repeat, so a slow spell of a shared machine
+        # hits them alike instead of one of them.
+        raws, imgs, parses = [], [], []
         runs: list[tuple[float, PdfTimings]] = []
         for _ in range(args.repeat):
+            raws.append(best(lambda: raw_dict(data, TEXT_FLAGS), 1))
+            imgs.append(best(lambda: raw_dict(data, default_flags), 1))
+            parses.append(best(lambda: parse_pdf(data, path.name), 1))
             timing = PdfTimings()
             start = time.process_time()
             build(data, path.name, "own", timing)
             runs.append((time.process_time() - start, timing))
+        t_raw, t_img, t_parse = min(raws), min(imgs), min(parses)
         t_build, timing = min(runs, key=lambda r: r[0])  # stage times of the fastest build
         row = (
             f"{path.name:28} {pages:5d} {t_raw:9.3f} {t_img:9.3f} {t_parse:8.3f} {t_build:8.3f} "

@@ -95,7 +95,6 @@ def _parse_open(
     no_text: list[int] = []
     page_rulings: list[rulings.Rulings] = []
     page_figures: list[list[figures.Box]] = []
-    textpages: dict[int, tuple[pymupdf.Page, pymupdf.TextPage]] = {}
     rule_time = 0.0
     for index in range(doc.page_count):
         vectors: list[dict[str, object]] | None = [] if table_engine != "none" else None
@@ -118,8 +117,6 @@ def _parse_open(
         r = rulings.rulings_from_vectors(vectors or [], width, height)
         page_rulings.append(r)
         page_figures.append(figures.figure_boxes(vectors or [], width * height))
-        if rulings.is_candidate(r):
-            textpages[index] = (page, textpage)  # kept for the word boxes of the table stage
         rule_time += time.process_time() - ts
         if not lines:
             no_text.append(index + 1)
@@ -144,8 +141,8 @@ def _parse_open(
             rulings.mark_framed(body, page_rulings[index])
         if table_engine != "none" and body and tables.is_body_candidate(body, page_rulings[index]):
             ts = time.process_time()
-            page, textpage = textpages.pop(index, None) or (doc[index], None)
-            found, _ = tables.find_page_tables(page, index + 1, body, table_engine, page_rulings[index], textpage)
+            page = doc[index] if table_engine == "pymupdf" else None  # only find_tables() reads it
+            found, _ = tables.find_page_tables(page, index + 1, body, table_engine, page_rulings[index])
             table_pages += 1
             body = _place_tables(body, found)
             table_time += time.process_time() - ts

@@ -12,12 +12,13 @@ milliseconds a page, so it is only run on candidate pages too.
 from __future__ import annotations
 
 import re
+from bisect import bisect_right
 from dataclasses import dataclass
 from statistics import median
 
 import pymupdf
 
-from segment.adapters.pdf.extract import TEXT_FLAGS, Line, normalise_text
+from segment.adapters.pdf.extract import Line, Piece, normalise_text
 from segment.adapters.pdf.rulings import (
     MIN_RULE_WIDTH,
     TOL,
@@ -31,6 +32,7 @@ from segment.adapters.pdf.rulings import (
 )
 
 _SPACE = re.compile(r"\s+")
+_WORD = re.compile(r"\S+")
 
 
 @dataclass(slots=True)
@@ -62,18 +64,39 @@ class Word:
     cy: float
 
 
-def page_words(
-    page: pymupdf.Page, textpage: pymupdf.TextPage | None = None, bands: list[tuple[float, float]] | None = None
-) -> list[Word]:
-    """Words of the page (only called on candidate pages); with `bands`, only the words whose
-    centre lies in one of those (top, bottom) ranges: the detectors look nowhere else."""
-    raw = page.get_text("words", flags=TEXT_FLAGS, textpage=textpage)
-    if bands is not None:
-        raw = [w for w in raw if any(top <= (w[1] + w[3]) / 2 <= bottom for top, bottom in bands)]
-    return [
-        Word(x0, y0, x1, y1, normalise_text(t), (b, ln, n), (x0 + x1) / 2, (y0 + y1) / 2)
-        for x0, y0, x1, y1, t, b, ln, n in raw
-    ]
+def line_words(lines: list[Line], bands: list[tuple[float, float]]) -> list[Word]:
+    """Words of the lines whose centre lies in one of the (top, bottom) bands: the detectors look
+    nowhere else. A word's box is placed inside its span by character count; the text pass gives
+    span boxes, not character boxes.
+
+    pymupdf's own word list (`get_text("words")`) costs about as much per page as the whole
+    "dict" pass, since it boxes every character; on the shared PDFs and the fixtures the words
+    from spans give byte-identical chunks (cells are separate spans, or split at spaces).
+    """
+    out: list[Word] = []
+    for index, ln in enumerate(lines):
+        cy = (ln.y0 + ln.y1) / 2
+        if not any(top <= cy <= bottom for top, bottom in bands):
+            continue
+        starts: list[int] = []
+        offset = 0
+        for piece in ln.pieces:
+            starts.append(offset)
+            offset += len(piece.text)
+        for n, m in enumerate(_WORD.finditer(ln.text)):
+            x0 = _x_at(ln.pieces, starts, m.start(), False)
+            x1 = _x_at(ln.pieces, starts, m.end() - 1, True)
+            out.append(Word(x0, ln.y0, x1, ln.y1, m.group(), (ln.block, index, n), (x0 + x1) / 2, cy))
+    return out
+
+
+def _x_at(pieces: list[Piece], starts: list[int], offset: int, right: bool) -> float:
+    """Left (or right) edge of the character at `offset` in the line text, spread evenly over
+    its piece's width."""
+    k = bisect_right(starts, offset) - 1
+    piece = pieces[k]
+    width = (piece.x1 - piece.x0) / max(len(piece.text), 1)
+    return piece.x0 + (offset - starts[k] + right) * width
 
 
 def _cell_text(words: list[Word]) -> str:
@@ -391,26 +414,32 @@ def is_body_candidate(lines: list[Line], r: Rulings) -> bool:
 
 
 def find_page_tables(
-    page: pymupdf.Page,
+    page: pymupdf.Page | None,
     page_no: int,
     lines: list[Line],
     engine: str = "own",
     r: Rulings | None = None,
-    textpage: pymupdf.TextPage | None = None,
 ) -> tuple[list[FoundTable], bool]:
-    """Tables on one page, and whether the page was a candidate at all."""
-    r = r if r is not None else rulings(page)
+    """Tables on one page, and whether the page was a candidate at all. Our own engine reads
+    only the lines and the rulings; the page is needed for `engine="pymupdf"`, or when `r` is
+    not given (the rulings are then read from its drawings)."""
+    if r is None:
+        if page is None:
+            raise ValueError("find_page_tables needs the page or its rulings")
+        r = rulings(page)
     if not is_body_candidate(lines, r):
         return [], False
     top, bottom = body_band(lines)
     if engine == "pymupdf":
+        if page is None:
+            raise ValueError('engine="pymupdf" needs the page')
         return pymupdf_tables(page, page_no), True
     grids = grids_of(r)
     in_grids = {i for hs, _ in grids for i in hs}
     groups = rule_groups(r, [i for i, h in enumerate(r.h) if i not in in_grids and top <= h[0] <= bottom])
     bands = [(ys[0], ys[-1]) for ys in (_grid_lines(r, hs, vs)[1] for hs, vs in grids)]
     bands += [(ys[0], ys[-1]) for ys, _, _ in groups]
-    words = page_words(page, textpage, bands)
+    words = line_words(lines, bands)
     by_grid = grid_tables(page_no, r, grids, words, lines)
     rest = [w for w in words if not any(_inside(w, t.bbox) for t in by_grid)]
     return by_grid + rule_tables(page_no, groups, rest, lines), True
