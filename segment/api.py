@@ -8,6 +8,7 @@ from pathlib import Path, PurePath
 from segment.adapters import adapter_for
 from segment.chunk import Chunk
 from segment.errors import ParseError, SegmentError, TooLarge
+from segment.gcpause import paused_gc
 from segment.settings import Settings
 from segment.tree import Document
 
@@ -35,7 +36,8 @@ def parse_bytes(data: bytes, source: str, settings: Settings | None = None) -> D
     """Parse bytes with the adapter chosen by `source`'s suffix."""
     fn = adapter_for(source).load()
     try:
-        return fn(data, source, settings)
+        with paused_gc():  # adapters build large acyclic trees: see segment.gcpause
+            return fn(data, source, settings)
     except SegmentError:
         raise
     except RecursionError as exc:

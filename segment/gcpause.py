@@ -1,10 +1,12 @@
 """Pause Python's cyclic garbage collector while a parser builds a large, acyclic tree.
 
-A PDF parse keeps tens of thousands of small objects alive (lines, pieces, blocks) while MuPDF's
-page dictionaries are created and dropped around them. Every few hundred allocations the
-collector runs and rescans the survivors: on the shared PDFs that was about a quarter of the
-build's CPU time (measured with bench/bench_pdf.py). Reference counting still frees everything
-the parse drops; cycles, if any, are collected once the collector is back on.
+A parse keeps tens of thousands of small objects alive (a PDF's lines and pieces, a page's tokens
+and nodes) while temporary ones are created and dropped around them. Every few hundred
+allocations the collector runs and rescans the survivors: on the shared PDFs that was about a
+quarter of the build's CPU time, on the shared Markdown about a tenth (bench/bench_pdf.py,
+bench/bench_markdown.py). `segment.parse_bytes`, `parse_pdf` and the segmenter run inside
+`paused_gc()`. Reference counting still frees everything they drop; cycles, if any, are
+collected once the collector is back on.
 """
 
 from __future__ import annotations

@@ -18,6 +18,7 @@ from dataclasses import dataclass, field
 
 from segment.chunk import Chunk, chunk_id, normalise_text
 from segment.errors import SegmentError
+from segment.gcpause import paused_gc
 from segment.render import render_block
 from segment.sentences import split_sentences
 from segment.settings import Settings
@@ -337,7 +338,8 @@ class Segmenter:
 def segment_document(document: Document, settings: Settings) -> Iterator[Chunk]:
     """Chunks of one document under `settings`."""
     try:
-        chunks = Segmenter(settings).segment(document)
+        with paused_gc():  # the drafts and chunks of a document are acyclic: see segment.gcpause
+            chunks = Segmenter(settings).segment(document)
     except RecursionError as exc:  # adapters cap nesting; this guards trees built by hand
         raise SegmentError(document.source, "blocks nested too deeply to segment", "resource_limit") from exc
     yield from chunks
