@@ -25,8 +25,8 @@ from segment.tree import (
 def item_span(item: Item) -> Span:
     """Pages of the item and the box of its first block."""
     first, last = item.pages
-    box = tuple(round(v, 2) for v in item.first.bbox)
-    return Span(pages=(first, max(first, last)), bbox=box)  # type: ignore[arg-type]
+    x0, y0, x1, y1 = item.first.bbox
+    return Span(pages=(first, max(first, last)), bbox=(round(x0, 2), round(y0, 2), round(x1, 2), round(y1, 2)))
 
 
 def table_node(found: FoundTable) -> Table:

@@ -100,33 +100,43 @@ class Line:
     def finish(self) -> None:
         """Compute text and style summaries from the pieces."""
         pieces = self.pieces
+        if len(pieces) == 1:
+            self._finish_one(pieces[0])
+            return
         self.text = "".join([p.text for p in pieces])
+        # Tallies by the raw size, folded to half points at the end (a line has few sizes).
         sizes: dict[float, int] = {}
         prose: dict[float, int] = {}
         total = bold = mono = 0
         for p in pieces:
-            n = len(p.text) - p.text.count(" ")
+            text = p.text
+            n = len(text) - text.count(" ")
             if n <= 0:
                 continue
             total += n
-            if not p.superscript:
-                key = int(p.size * 2 + 0.5) / 2
-                sizes[key] = sizes.get(key, 0) + n
-                if not p.mono:
-                    prose[key] = prose.get(key, 0) + n
             if p.bold:
                 bold += n
             if p.mono:
                 mono += n
-        if len(sizes) == 1:
-            self.size = next(iter(sizes))
-        elif sizes:
-            self.size = max(sizes, key=lambda k: (sizes[k], k))
-        else:
-            self.size = pieces[0].size if pieces else 0.0
+            if not p.superscript:
+                size = p.size
+                sizes[size] = sizes.get(size, 0) + n
+                if not p.mono:
+                    prose[size] = prose.get(size, 0) + n
+        self.size = _dominant(sizes) if sizes else pieces[0].size if pieces else 0.0
         self.bold = bold / total if total else 0.0
         self.mono = mono / total if total else 0.0
-        self.prose_size = max(prose, key=lambda k: (prose[k], k)) if prose else self.size
+        self.prose_size = _dominant(prose) if prose else self.size
+
+    def _finish_one(self, piece: Piece) -> None:
+        # The same summaries for a line of one piece (nearly half of all lines), without the
+        # tallies: the size counts only when the piece has visible characters and is not raised.
+        self.text = text = piece.text
+        visible = len(text) > text.count(" ")
+        self.size = int(piece.size * 2 + 0.5) / 2 if visible and not piece.superscript else piece.size
+        self.bold = 1.0 if visible and piece.bold else 0.0
+        self.mono = 1.0 if visible and piece.mono else 0.0
+        self.prose_size = self.size
 
     @property
     def height(self) -> float:
@@ -137,6 +147,17 @@ class Line:
     def bbox(self) -> tuple[float, float, float, float]:
         """(x0, y0, x1, y1)."""
         return (self.x0, self.y0, self.x1, self.y1)
+
+
+def _dominant(tally: dict[float, int]) -> float:
+    """The size, rounded to half points, with the most characters (the larger one on a tie)."""
+    if len(tally) == 1:
+        return int(next(iter(tally)) * 2 + 0.5) / 2
+    folded: dict[float, int] = {}
+    for size, n in tally.items():
+        key = int(size * 2 + 0.5) / 2
+        folded[key] = folded.get(key, 0) + n
+    return max(folded, key=lambda k: (folded[k], k))
 
 
 @lru_cache(maxsize=1024)

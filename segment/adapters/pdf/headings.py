@@ -85,8 +85,18 @@ def is_candidate(item: Item, stats: FontStats) -> bool:
     """Whether a text block looks like a heading by style and shape."""
     if item.kind != "text" or len(item.first.lines) > MAX_LINES + 2:
         return False
-    if len(item.first.lines) > MAX_LINES and item.size < stats.body_size + 2:
+    # Style first: most blocks are body text and stop here.
+    size = item.size
+    if size < stats.body_size - 0.6:
+        return False
+    larger = size >= stats.body_size + 0.9
+    bolder = item.bold >= 0.85 and not stats.body_bold
+    if not (larger or bolder):
+        return False
+    if len(item.first.lines) > MAX_LINES and size < stats.body_size + 2:
         return False  # only clearly larger type may wrap a heading over four or five lines
+    if item.mono >= 0.5 and not larger:
+        return False
     if any("boxed" in ln.flags for ln in item.first.lines):
         return False
     text = item.text.strip()
@@ -94,19 +104,10 @@ def is_candidate(item: Item, stats: FontStats) -> bool:
         return False
     if _CAPTION.match(text):
         return False
-    size = item.size
-    if size < stats.body_size - 0.6:
-        return False
-    larger = size >= stats.body_size + 0.9
-    if item.mono >= 0.5 and not larger:
-        return False
     if _is_toc_entry(text) or text.casefold().rstrip(":.!") in _ADMONITION:
         return False
     if len(text) <= 2 and not any(ch.isdigit() for ch in text):
         return False  # index letters
-    bolder = item.bold >= 0.85 and not stats.body_bold
-    if not (larger or bolder):
-        return False
     words = len(text.split())
     if text[-1] in ",;" or (text[-1] == "." and numbering(text) is None and words > 6):
         return False
@@ -137,7 +138,7 @@ def detect(items: list[Item], stats: FontStats) -> None:
     previous: Item | None = None
     for item in items:
         strong = item.size >= stats.body_size + 0.9 or item.bold >= 0.85
-        if is_label(item) and strong:
+        if strong and is_label(item):
             item.label = True
             pending_label = True
             previous = item

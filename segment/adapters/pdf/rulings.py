@@ -244,7 +244,7 @@ def _connect(r: Rulings) -> list[tuple[list[int], list[int]]]:
 
 def grid_boxes(r: Rulings) -> list[tuple[float, float, float, float]]:
     """Boxes of ruled grids (connected horizontal and vertical rulings) on a page."""
-    if not is_candidate(r) or not r.v:
+    if not r.v or not is_candidate(r):
         return []
     boxes = []
     for hs, vs in components(r):

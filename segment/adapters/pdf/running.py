@@ -54,7 +54,8 @@ def find_running(
     candidates: list[tuple[str, str, Line, bool]] = []
     for index, (lines, height) in enumerate(zip(pages, heights)):
         boxes = grids[index] if grids else []
-        lines = [ln for ln in lines if not any(_inside(ln, b) for b in boxes)]
+        if boxes:
+            lines = [ln for ln in lines if not any(_inside(ln, b) for b in boxes)]
         if not lines:
             continue
         ordered = sorted(lines, key=lambda ln: (ln.y0, ln.x0))
