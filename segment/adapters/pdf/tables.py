@@ -12,7 +12,7 @@ milliseconds a page, so it is only run on candidate pages too.
 from __future__ import annotations
 
 import re
-from bisect import bisect_right
+from bisect import bisect_left, bisect_right
 from dataclasses import dataclass
 from statistics import median
 
@@ -76,16 +76,28 @@ def line_words(lines: list[Line], bands: list[tuple[float, float]]) -> list[Word
     out: list[Word] = []
     for index, ln in enumerate(lines):
         cy = (ln.y0 + ln.y1) / 2
-        if not any(top <= cy <= bottom for top, bottom in bands):
+        for top, bottom in bands:
+            if top <= cy <= bottom:
+                break
+        else:
+            continue
+        pieces = ln.pieces
+        if len(pieces) == 1:  # most table cells: one span, no piece lookup
+            piece = pieces[0]
+            step = (piece.x1 - piece.x0) / max(len(piece.text), 1)
+            for n, m in enumerate(_WORD.finditer(ln.text)):
+                x0 = piece.x0 + m.start() * step
+                x1 = piece.x0 + m.end() * step
+                out.append(Word(x0, ln.y0, x1, ln.y1, m.group(), (ln.block, index, n), (x0 + x1) / 2, cy))
             continue
         starts: list[int] = []
         offset = 0
-        for piece in ln.pieces:
+        for piece in pieces:
             starts.append(offset)
             offset += len(piece.text)
         for n, m in enumerate(_WORD.finditer(ln.text)):
-            x0 = _x_at(ln.pieces, starts, m.start(), False)
-            x1 = _x_at(ln.pieces, starts, m.end() - 1, True)
+            x0 = _x_at(pieces, starts, m.start(), False)
+            x1 = _x_at(pieces, starts, m.end() - 1, True)
             out.append(Word(x0, ln.y0, x1, ln.y1, m.group(), (ln.block, index, n), (x0 + x1) / 2, cy))
     return out
 
@@ -172,8 +184,10 @@ def _grid_table(
     boxes: list[tuple[float, float, float, float]] = []
     ncols = len(xs) - 1
     boundaries = [[(y0, y1) for vx, y0, y1 in vsegs if abs(vx - x) <= TOL] for x in xs]
+    inside.sort(key=lambda w: w.cy)  # rows are cut from it by bisection (cells sort by key)
+    centres = [w.cy for w in inside]
     for top, bottom in zip(ys, ys[1:]):
-        band = [w for w in inside if top <= w.cy <= bottom]
+        band = inside[bisect_left(centres, top) : bisect_right(centres, bottom)]
         if not band:
             continue
         cells: list[str] = []
@@ -204,7 +218,7 @@ def _grid_table(
     if distinct < max(2, len(rows) // 3) or used_cols < 2:
         return None
     text = "".join(c for row in rows for c in row)
-    if sum(ch.isalnum() for ch in text) < 0.3 * max(len(text), 1):
+    if sum(map(str.isalnum, text)) < 0.3 * max(len(text), 1):
         return None  # labels of a vector figure (dash rules, arrows), not a table
     header: list[list[str]] = []
     if _header_first(rows, boxes, r, lines):
