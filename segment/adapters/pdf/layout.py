@@ -10,12 +10,15 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
+from itertools import accumulate
 from statistics import median
 
 from segment.adapters.pdf.extract import Line, Piece
 
 MIN_GUTTER = 6.0
 """Narrowest empty strip (points) taken as a gutter between columns."""
+_EMPTY_RUN = re.compile(rb"\x01+")
+
 WIDE_SHARE = 0.55
 """A line wider than this share of the text width may cross a gutter (titles, floats)."""
 
@@ -85,18 +88,14 @@ def find_gutters(lines: list[Line]) -> list[tuple[float, float]]:
     for ln in body:
         diff[max(0, int(ln.x0 - x_min))] += 1
         diff[min(n, int(ln.x1 - x_min) + 1)] -= 1
+    # Points covered by at most `slack` lines, as a byte string; gutters are its runs of 1s that
+    # start after the left edge and end before the right one.
+    empty = bytes([cover <= slack for cover in accumulate(diff[:n])])
     gutters: list[tuple[float, float]] = []
-    run_start = -1
-    cover = 0
-    for i in range(n):
-        cover += diff[i]
-        empty = cover <= slack
-        if empty and run_start < 0:
-            run_start = i
-        elif not empty and run_start >= 0:
-            if i - run_start >= MIN_GUTTER and run_start > 0:
-                gutters.append((x_min + run_start, x_min + i - 1))
-            run_start = -1
+    for run in _EMPTY_RUN.finditer(empty):
+        start, end = run.span()
+        if start > 0 and end < n and end - start >= MIN_GUTTER:
+            gutters.append((x_min + start, x_min + end - 1))
     kept: list[tuple[float, float]] = []
     for i, g in enumerate(gutters):
         lo = gutters[i - 1][1] if i > 0 else x_min - 1
