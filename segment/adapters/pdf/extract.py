@@ -23,6 +23,10 @@ TEXT_FLAGS: int = (
 VECTOR_FLAGS: int = TEXT_FLAGS | pymupdf.TEXT_COLLECT_VECTORS
 """The same, plus the page's vector paths as blocks of type 3 (table rulings in the same pass)."""
 
+_SPACE_WIDTH = 0.6
+"""Widest ordinary space, in font sizes (a monospaced character is 0.6 em in most code fonts:
+common practice); an inserted space wider than this stands for a gap and starts a new piece."""
+
 # pymupdf span flag bits (documented in the TextPage "dict" format).
 _SUPERSCRIPT = 1
 _ITALIC = 2
@@ -208,15 +212,30 @@ def page_lines(
             if abs(wdir[1]) > 0.2:
                 # Rotated text (margin stamps, rotated table heads): kept, but as its own block.
                 line_bno = -1 - bno
-            pieces = []
+            pieces: list[Piece] = []
+            last_key: tuple[str, int, float] | None = None
             for span in raw.get("spans", ()):
                 text = span["text"]
-                if text:
-                    bold, italic, mono, sup = _style(span["font"], span["flags"])
-                    box = span["bbox"]
-                    if not text.isascii():
-                        text = normalise_text(text)
-                    pieces.append(Piece(text, box[0], box[2], span["size"], bold, italic, mono, sup))
+                if not text:
+                    continue
+                if not text.isascii():
+                    text = normalise_text(text)
+                box = span["bbox"]
+                key = (span["font"], span["flags"], span["size"])
+                wide = text.isspace() and box[2] - box[0] > _SPACE_WIDTH * key[2] * len(text) + 0.5
+                if key == last_key and not wide and abs(box[0] - pieces[-1].x1) <= 0.5:
+                    # MuPDF starts a new span at every space it inserts (its character flags
+                    # differ), so a line of one style comes as word, space, word...: one piece,
+                    # as long as the spaces are no wider than a character. Monospaced runs are
+                    # never merged: the inserted spaces are not a character wide, and code
+                    # indentation is measured from the widths of the words.
+                    piece = pieces[-1]
+                    piece.text += text
+                    piece.x1 = box[2]
+                    continue
+                bold, italic, mono, sup = _style(key[0], key[1])
+                last_key = None if wide or mono else key
+                pieces.append(Piece(text, box[0], box[2], key[2], bold, italic, mono, sup))
             if not pieces:
                 continue
             x0, y0, x1, y1 = raw["bbox"]
