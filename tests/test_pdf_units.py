@@ -194,3 +194,19 @@ def test_paused_gc_restores_the_collector_state() -> None:
         assert not gc.isenabled()  # a host that runs without the collector keeps it off
     finally:
         gc.enable()
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        "Re-use the infor- mation desk_2 in x86_64",
+        "caf\u00e9 na\u0131ve e\u0301t\u00e9 x\u00b2 \u2167 v1.2.3",  # accents, combining acute, superscript two, roman numeral
+        "\u00abquoted\u00bb (paren) [bracket] snake_case CamelCase 42nd",
+    ],
+)
+def test_vocabulary_is_the_letter_runs_of_the_text(text: str) -> None:
+    # The same words as the pattern [^\W\d_]+ (runs of letters, Python `re` semantics) over the
+    # lower-cased text: the fast path splits at white space first.
+    import re
+
+    assert vocabulary([line(text, 0, 0, 100)]) == set(re.findall(r"[^\W\d_]+", text.lower()))

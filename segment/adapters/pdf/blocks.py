@@ -92,8 +92,16 @@ class Item:
 
 
 def vocabulary(lines: list[Line]) -> set[str]:
-    """Lower-cased words of the document, to decide hyphen joins."""
-    return set(_WORD.findall("\n".join([ln.text for ln in lines]).lower()))
+    """Lower-cased words of the document (runs of letters), to decide hyphen joins."""
+    # Split at white space first (fast), then cut only the distinct tokens that hold more than
+    # letters: the same words as running the letter pattern over the whole text.
+    words: set[str] = set()
+    for token in set("\n".join([ln.text for ln in lines]).lower().split()):
+        if token.isalpha():
+            words.add(token)
+        else:
+            words.update(_WORD.findall(token))
+    return words
 
 
 def join_lines(lines: list[str], vocab: set[str]) -> str:
