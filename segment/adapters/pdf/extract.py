@@ -212,30 +212,7 @@ def page_lines(
             if abs(wdir[1]) > 0.2:
                 # Rotated text (margin stamps, rotated table heads): kept, but as its own block.
                 line_bno = -1 - bno
-            pieces: list[Piece] = []
-            last_key: tuple[str, int, float] | None = None
-            for span in raw.get("spans", ()):
-                text = span["text"]
-                if not text:
-                    continue
-                if not text.isascii():
-                    text = normalise_text(text)
-                box = span["bbox"]
-                key = (span["font"], span["flags"], span["size"])
-                wide = text.isspace() and box[2] - box[0] > _SPACE_WIDTH * key[2] * len(text) + 0.5
-                if key == last_key and not wide and abs(box[0] - pieces[-1].x1) <= 0.5:
-                    # MuPDF starts a new span at every space it inserts (its character flags
-                    # differ), so a line of one style comes as word, space, word...: one piece,
-                    # as long as the spaces are no wider than a character. Monospaced runs are
-                    # never merged: the inserted spaces are not a character wide, and code
-                    # indentation is measured from the widths of the words.
-                    piece = pieces[-1]
-                    piece.text += text
-                    piece.x1 = box[2]
-                    continue
-                bold, italic, mono, sup = _style(key[0], key[1])
-                last_key = None if wide or mono else key
-                pieces.append(Piece(text, box[0], box[2], key[2], bold, italic, mono, sup))
+            pieces = _pieces(raw.get("spans", []))
             if not pieces:
                 continue
             x0, y0, x1, y1 = raw["bbox"]
@@ -244,6 +221,44 @@ def page_lines(
             if line.text.strip():
                 out.append(line)
     return out
+
+
+def _pieces(spans: list[dict[str, Any]]) -> list[Piece]:
+    """A line's spans as pieces. MuPDF starts a new span at every space it inserts (its
+    character flags differ), so a line of one style comes as word, space, word...: touching
+    spans of one font, size and flags make one piece, as long as the spaces are no wider than a
+    character. Monospaced runs are never merged: the inserted spaces are not a character wide,
+    and code indentation is measured from the widths of the words."""
+    pieces: list[Piece] = []
+    last: Piece | None = None  # the piece that may take the next span
+    font = ""
+    flags = -1
+    for span in spans:
+        text = span["text"]
+        if not text:
+            continue
+        if not text.isascii():
+            text = normalise_text(text)
+        box = span["bbox"]
+        size = span["size"]
+        wide = text.isspace() and box[2] - box[0] > _SPACE_WIDTH * size * len(text) + 0.5
+        if (
+            last is not None
+            and not wide
+            and span["flags"] == flags
+            and size == last.size
+            and span["font"] == font
+            and abs(box[0] - last.x1) <= 0.5
+        ):
+            last.text += text
+            last.x1 = box[2]
+            continue
+        font, flags = span["font"], span["flags"]
+        bold, italic, mono, sup = _style(font, flags)
+        piece = Piece(text, box[0], box[2], size, bold, italic, mono, sup)
+        pieces.append(piece)
+        last = None if wide or mono else piece
+    return pieces
 
 
 def _continues(last: Line, block: dict[str, Any]) -> bool:
