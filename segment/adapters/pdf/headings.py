@@ -327,8 +327,8 @@ def _similar(a: str, b: str) -> float:
     if a.startswith(b) or b.startswith(a):
         short, long_ = sorted((a, b), key=len)
         return 0.8 + 0.2 * len(short) / len(long_)
-    if abs(len(a) - len(b)) > 0.5 * max(len(a), len(b)):
-        return 0.0
+    if 2.0 * min(len(a), len(b)) < 0.8 * (len(a) + len(b)):
+        return 0.0  # SequenceMatcher.real_quick_ratio() below 0.8, without building the matcher
     matcher = SequenceMatcher(None, a, b, autojunk=False)
     if matcher.real_quick_ratio() < 0.8 or matcher.quick_ratio() < 0.8:
         return 0.0  # upper bounds already below every threshold we use
