@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import re
 from bisect import bisect_left, bisect_right
+from collections.abc import Callable
 from dataclasses import dataclass
 from statistics import median
 
@@ -90,25 +91,30 @@ def line_words(lines: list[Line], bands: list[tuple[float, float]]) -> list[Word
                 x1 = piece.x0 + m.end() * step
                 out.append(Word(x0, ln.y0, x1, ln.y1, m.group(), (ln.block, index, n), (x0 + x1) / 2, cy))
             continue
-        starts: list[int] = []
-        offset = 0
-        for piece in pieces:
-            starts.append(offset)
-            offset += len(piece.text)
+        edges = _char_edges(pieces)
         for n, m in enumerate(_WORD.finditer(ln.text)):
-            x0 = _x_at(pieces, starts, m.start(), False)
-            x1 = _x_at(pieces, starts, m.end() - 1, True)
+            x0 = edges(m.start(), False)
+            x1 = edges(m.end() - 1, True)
             out.append(Word(x0, ln.y0, x1, ln.y1, m.group(), (ln.block, index, n), (x0 + x1) / 2, cy))
     return out
 
 
-def _x_at(pieces: list[Piece], starts: list[int], offset: int, right: bool) -> float:
-    """Left (or right) edge of the character at `offset` in the line text, spread evenly over
-    its piece's width."""
-    k = bisect_right(starts, offset) - 1
-    piece = pieces[k]
-    width = (piece.x1 - piece.x0) / max(len(piece.text), 1)
-    return piece.x0 + (offset - starts[k] + right) * width
+def _char_edges(pieces: list[Piece]) -> Callable[[int, bool], float]:
+    """For a line of several pieces: the left (or right) edge of the character at an offset in
+    the line text, each piece's width spread evenly over its characters."""
+    starts: list[int] = []
+    steps: list[float] = []
+    offset = 0
+    for piece in pieces:
+        starts.append(offset)
+        steps.append((piece.x1 - piece.x0) / max(len(piece.text), 1))
+        offset += len(piece.text)
+
+    def edge(at: int, right: bool) -> float:
+        k = bisect_right(starts, at) - 1
+        return pieces[k].x0 + (at - starts[k] + right) * steps[k]
+
+    return edge
 
 
 def _cell_text(words: list[Word]) -> str:
