@@ -7,7 +7,8 @@ Rows, per file and in total (least CPU seconds of --repeat runs each; the measur
 within each repeat):
 
 - raw dict: `pymupdf.open` + `page.get_text("dict", flags=...)` on every page, our flags (no
-  image data): the floor the issue measures against;
+  image data): the floor the issue measures against; raw nogc: the same with the cyclic GC
+  paused, as our parse runs (x nogc: the build against that stricter floor);
 - raw dict+img: the same with pymupdf's default "dict" flags, which copy image bytes;
 - parse: `parse_pdf` (tree only); build: parse + `segment.chunk` at max_tokens=512;
 - tables: seconds inside table detection (rulings of every page, detectors on candidate pages),
@@ -34,6 +35,7 @@ import segment
 from segment.adapters.pdf import PdfTimings, parse_pdf, rulings, tables
 from segment.adapters.pdf.extract import TEXT_FLAGS, page_lines
 from segment.adapters.pdf.headings import norm
+from segment.gcpause import paused_gc
 
 CORPUS = Path(__file__).resolve().parents[1].parent / "shared" / "corpus" / "pdf"
 SETTINGS = segment.Settings(max_tokens=512)
@@ -48,6 +50,13 @@ def best(fn: Callable[[], object], repeat: int) -> float:
         fn()
         times.append(time.process_time() - start)
     return min(times)
+
+
+def raw_dict_paused(data: bytes) -> None:
+    """The raw extraction with the cyclic GC paused, as our parse runs (segment.gcpause): the
+    stricter floor, since a page's dict also keeps the collector busy."""
+    with paused_gc():
+        raw_dict(data, TEXT_FLAGS)
 
 
 def raw_dict(data: bytes, flags: int) -> None:
@@ -128,12 +137,15 @@ def main(argv: list[str] | None = None) -> int:
         print(f"no PDFs under {args.folder}", file=sys.stderr)
         return 1
     default_flags = pymupdf.TEXTFLAGS_DICT
-    head = f"{'file':28} {'pages':>5} {'raw dict':>9} {'dict+img':>9} {'parse':>8} {'build':>8} {'x raw':>6} {'tables':>7} {'share':>6} {'cand':>5}"
+    head = (
+        f"{'file':28} {'pages':>5} {'raw dict':>9} {'raw nogc':>9} {'dict+img':>9} {'parse':>8} {'build':>8} "
+        f"{'x raw':>6} {'x nogc':>6} {'tables':>7} {'share':>6} {'cand':>5}"
+    )
     if args.engine:
         head += f" {'build(ft)':>9} {'x raw':>6}"
     print(head)
     totals = {
-        "pages": 0, "raw": 0.0, "img": 0.0, "parse": 0.0, "build": 0.0, "tables": 0.0, "cand": 0, "ft": 0.0,
+        "pages": 0, "raw": 0.0, "nogc": 0.0, "img": 0.0, "parse": 0.0, "build": 0.0, "tables": 0.0, "cand": 0, "ft": 0.0,
         "extract": 0.0, "layout": 0.0,
     }
     fonts_scores = [0, 0, 0]
@@ -144,24 +156,27 @@ def main(argv: list[str] | None = None) -> int:
             toc = doc.get_toc()
         # The four measures take turns within each repeat, so a slow spell of a shared machine
         # hits them alike instead of one of them.
-        raws, imgs, parses = [], [], []
+        raws, nogcs, imgs, parses = [], [], [], []
         runs: list[tuple[float, PdfTimings]] = []
         for _ in range(args.repeat):
             raws.append(best(lambda: raw_dict(data, TEXT_FLAGS), 1))
+            nogcs.append(best(lambda: raw_dict_paused(data), 1))
             imgs.append(best(lambda: raw_dict(data, default_flags), 1))
             parses.append(best(lambda: parse_pdf(data, path.name), 1))
             timing = PdfTimings()
             start = time.process_time()
             build(data, path.name, "own", timing)
             runs.append((time.process_time() - start, timing))
-        t_raw, t_img, t_parse = min(raws), min(imgs), min(parses)
+        t_raw, t_nogc, t_img, t_parse = min(raws), min(nogcs), min(imgs), min(parses)
         t_build, timing = min(runs, key=lambda r: r[0])  # stage times of the fastest build
         row = (
-            f"{path.name:28} {pages:5d} {t_raw:9.3f} {t_img:9.3f} {t_parse:8.3f} {t_build:8.3f} "
-            f"{t_build / t_raw:6.2f} {timing.tables:7.3f} {timing.tables / t_build:6.1%} {timing.table_pages:5d}"
+            f"{path.name:28} {pages:5d} {t_raw:9.3f} {t_nogc:9.3f} {t_img:9.3f} {t_parse:8.3f} {t_build:8.3f} "
+            f"{t_build / t_raw:6.2f} {t_build / t_nogc:6.2f} {timing.tables:7.3f} {timing.tables / t_build:6.1%} "
+            f"{timing.table_pages:5d}"
         )
         totals["pages"] += pages
         totals["raw"] += t_raw
+        totals["nogc"] += t_nogc
         totals["img"] += t_img
         totals["parse"] += t_parse
         totals["build"] += t_build
@@ -180,8 +195,9 @@ def main(argv: list[str] | None = None) -> int:
                 fonts_scores[i] += v
     t = totals
     row = (
-        f"{'TOTAL':28} {t['pages']:5d} {t['raw']:9.3f} {t['img']:9.3f} {t['parse']:8.3f} {t['build']:8.3f} "
-        f"{t['build'] / t['raw']:6.2f} {t['tables']:7.3f} {t['tables'] / t['build']:6.1%} {t['cand']:5d}"
+        f"{'TOTAL':28} {t['pages']:5d} {t['raw']:9.3f} {t['nogc']:9.3f} {t['img']:9.3f} {t['parse']:8.3f} "
+        f"{t['build']:8.3f} {t['build'] / t['raw']:6.2f} {t['build'] / t['nogc']:6.2f} {t['tables']:7.3f} "
+        f"{t['tables'] / t['build']:6.1%} {t['cand']:5d}"
     )
     if args.engine:
         row += f" {t['ft']:9.3f} {t['ft'] / t['raw']:6.2f}"

@@ -30,6 +30,8 @@ _LABEL = re.compile(r"^(chapter|appendix|part)(\s+[\w.]+)?\s*$", re.I)
 _LABEL_WORD = re.compile(r"^(chapter|appendix|part)$", re.I)
 _ADMONITION = {"note", "tip", "warning", "caution", "important", "hint", "danger", "attention"}
 _ENDS_NUMBER = re.compile(r"\s(\d{1,4}|[ivxlc]{1,6})$")
+_NUMBER_ENDS = frozenset("0123456789ivxlc")
+"""The characters a match of _ENDS_NUMBER can end with."""
 _LABEL_PREFIX = re.compile(r"^(chapter|appendix|part)\s+[\w]+[.:]?\s+(?=\S)", re.I)
 _CAPTION = re.compile(r"^(figure|fig\.|table|listing|example|algorithm|equation)\s*[\dA-Z]+[.:]", re.I)
 _TOC_ENTRY = re.compile(r"((\.\s*){3,}|\s{2,}|\s)(\d{1,4}|[ivxlc]{1,6})$")
@@ -267,7 +269,9 @@ def _contents_pages(items: list[Item]) -> set[int]:
             continue
         for ln in item.lines:
             total[ln.page] += 1
-            if _ENDS_NUMBER.search(ln.text.strip()):
+            text = ln.text.rstrip()
+            # The last character decides most lines without running the pattern over them.
+            if text[-1:] in _NUMBER_ENDS and _ENDS_NUMBER.search(text.lstrip()):
                 ending[ln.page] += 1
     return {p for p, n in total.items() if n >= 5 and ending[p] >= 0.4 * n}
 

@@ -242,7 +242,8 @@ def _has_vertical(segments: list[tuple[float, float]], top: float, bottom: float
     """Whether the vertical segments (y0, y1) on one column boundary rule most of a row."""
     covered = 0.0
     for y0, y1 in segments:
-        covered += max(0.0, min(y1, bottom) - max(y0, top))
+        if y1 > top and y0 < bottom:  # the others add nothing
+            covered += (y1 if y1 < bottom else bottom) - (y0 if y0 > top else top)
     return covered >= 0.6 * (bottom - top)
 
 
