@@ -7,11 +7,12 @@ import gc
 import pytest
 
 from segment.adapters.pdf.blocks import join_lines, vocabulary
-from segment.adapters.pdf.extract import Line, Piece, normalise_text
+from segment.adapters.pdf.extract import Line, Piece, normalise_text, span_pieces
 from segment.adapters.pdf.headings import norm, numbering
 from segment.adapters.pdf.layout import find_gutters, order_page
 from segment.adapters.pdf.rulings import is_candidate, rulings_from_vectors
 from segment.adapters.pdf.running import find_running, is_page_number, running_key
+from segment.adapters.pdf.tables import line_words
 from segment.gcpause import paused_gc
 
 
@@ -210,3 +211,53 @@ def test_vocabulary_is_the_letter_runs_of_the_text(text: str) -> None:
     import re
 
     assert vocabulary([line(text, 0, 0, 100)]) == set(re.findall(r"[^\W\d_]+", text.lower()))
+
+
+def _span(text: str, x0: float, x1: float, font: str = "Serif", flags: int = 4, size: float = 10.0) -> dict:
+    # The shape of a span in pymupdf's "dict" output (TextPage dict format), the fields we read.
+    return {"text": text, "bbox": (x0, 0.0, x1, 12.0), "font": font, "flags": flags, "size": size}
+
+
+def test_touching_spans_of_one_style_make_one_piece() -> None:
+    # MuPDF gives each space it inserts a span of its own (other character flags): word, space, word.
+    pieces = span_pieces([_span("Each", 72, 91.5), _span(" ", 91.5, 94.9), _span("line", 94.9, 110)])
+    assert [(p.text, p.x0, p.x1) for p in pieces] == [("Each line", 72, 110)]
+
+
+def test_style_changes_and_gaps_keep_pieces_apart() -> None:
+    pieces = span_pieces(
+        [
+            _span("Key", 72, 90, flags=20),  # bold (flag bit 16)
+            _span(" ", 90, 93),
+            _span("value", 93, 120),
+            _span(" ", 120, 160),  # an inserted space as wide as four characters: a gap
+            _span("far", 160, 175),
+            _span("off", 180, 195),  # does not touch the previous span
+        ]
+    )
+    assert [p.text for p in pieces] == ["Key", " value", " ", "far", "off"]
+
+
+def test_monospaced_spans_are_never_joined() -> None:
+    # Code indentation is measured from word widths; MuPDF's inserted spaces are narrower.
+    mono = {"font": "DejaVuSansMono", "flags": 8}
+    pieces = span_pieces([_span("M_1", 90, 107.2, **mono), _span(" ", 107.2, 110.8, **mono), _span("+", 110.8, 116.5, **mono)])
+    assert [p.text for p in pieces] == ["M_1", " ", "+"]
+
+
+def test_table_words_are_placed_by_character_count() -> None:
+    ln = line("ab cd", 100, 50, 150)  # one piece, 10 points a character
+    words = line_words([ln], [(0, 100)])
+    assert [(w.text, w.x0, w.x1) for w in words] == [("ab", 100, 120), ("cd", 130, 150)]
+    assert line_words([ln], [(200, 300)]) == []  # outside every band: not read
+
+
+def test_table_words_across_pieces_use_each_piece_width() -> None:
+    ln = Line(
+        1, 100, 50, 190, 62,
+        [Piece("ab ", 100, 130, 10, False, False, False, False), Piece("cdef", 130, 190, 10, True, False, False, False)],
+        0,
+    )
+    ln.finish()
+    words = line_words([ln], [(0, 100)])
+    assert [(w.text, w.x0, w.x1) for w in words] == [("ab", 100, 120), ("cdef", 130, 190)]

@@ -212,7 +212,7 @@ def page_lines(
             if abs(wdir[1]) > 0.2:
                 # Rotated text (margin stamps, rotated table heads): kept, but as its own block.
                 line_bno = -1 - bno
-            pieces = _pieces(raw.get("spans", []))
+            pieces = span_pieces(raw.get("spans", []))
             if not pieces:
                 continue
             x0, y0, x1, y1 = raw["bbox"]
@@ -223,7 +223,7 @@ def page_lines(
     return out
 
 
-def _pieces(spans: list[dict[str, Any]]) -> list[Piece]:
+def span_pieces(spans: list[dict[str, Any]]) -> list[Piece]:
     """A line's spans as pieces. MuPDF starts a new span at every space it inserts (its
     character flags differ), so a line of one style comes as word, space, word...: touching
     spans of one font, size and flags make one piece, as long as the spaces are no wider than a
