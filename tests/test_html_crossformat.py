@@ -39,7 +39,7 @@ import pytest
 
 from segment.adapters import markdown as md_adapter
 from segment.adapters.html import parse as parse_html
-from segment.adapters.markdown import _ATTRIBUTES_ONLY
+from segment.adapters.markdown import is_attribute_line
 from segment.tree import (
     Block,
     Code,
@@ -65,7 +65,7 @@ def _norm(text: str) -> str:
 def _blocks(blocks: list[Block], depth: int) -> Iterator[tuple[Any, ...]]:
     for b in blocks:
         if isinstance(b, Paragraph):
-            if not _ATTRIBUTES_ONLY.fullmatch(b.text.strip()):
+            if not is_attribute_line(b.text):
                 yield (depth, "paragraph", _norm(b.text))
         elif isinstance(b, Code):
             lines = list(b.lines)

@@ -66,6 +66,12 @@ _SLUG_DROP = re.compile(r"[^\w\- ]", re.UNICODE)
 _MARKERS = re.compile(r"^(?:\s*(?:>+|(?:[-*+]|\d{1,9}[.)])(?=\s|$)))+\s*")
 
 
+def is_attribute_line(text: str) -> bool:
+    """A paragraph that is only a block attribute list (`{#id .class key=value}`), an instruction
+    to static site generators that never shows on the page."""
+    return bool(_ATTRIBUTES_ONLY.fullmatch(text.strip()))
+
+
 def _parser() -> MarkdownIt:
     md = MarkdownIt("commonmark", {"maxNesting": MAX_NESTING, "html": True})
     md.enable(["table", "strikethrough"])
@@ -254,7 +260,7 @@ class _TreeBuilder:
     def paragraph(self, inline: Token, span: Span) -> None:
         raw, starts = inline_text_lines(inline)
         text = raw.strip()
-        if _ATTRIBUTES_ONLY.fullmatch(text):
+        if is_attribute_line(text):
             return  # `{#id .class}` alone on a line: block attributes for the generator, never shown
         if text:
             lead = len(raw) - len(raw.lstrip())
