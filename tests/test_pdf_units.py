@@ -261,3 +261,12 @@ def test_table_words_across_pieces_use_each_piece_width() -> None:
     ln.finish()
     words = line_words([ln], [(0, 100)])
     assert [(w.text, w.x0, w.x1) for w in words] == [("ab", 100, 120), ("cdef", 130, 190)]
+
+
+def test_folding_table_stays_bounded() -> None:
+    from segment.adapters.pdf import extract
+
+    every = "".join(chr(c) for c in range(0x4E00, 0x4E00 + 3 * extract.SafeFolding.LIMIT))  # CJK ideographs
+    assert normalise_text(every) == every  # no compatibility decomposition: unchanged
+    assert len(extract.FOLDING) <= extract.SafeFolding.LIMIT
+    assert normalise_text("\ufb01") == "fi"  # still folds after starting over

@@ -43,19 +43,31 @@ _ITALIC_NAME = re.compile(r"italic|oblique|cmti|cmsl", re.I)
 _SAFE_TAGS = ("<compat>", "<noBreak>", "<wide>", "<narrow>", "<font>", "<small>")
 
 
-@lru_cache(maxsize=4096)
-def _normalise_char(ch: str) -> str:
-    decomposition = unicodedata.decomposition(ch)
-    if decomposition.startswith(_SAFE_TAGS):
-        return unicodedata.normalize("NFKC", ch)
-    return ch
+class SafeFolding(dict[int, str]):
+    """str.translate table, filled on first sight of each character: its NFKC form when its
+    compatibility decomposition is one of the safe kinds, else itself."""
+
+    LIMIT = 8192
+    """Entries kept at most (a file could show every code point); then it starts over."""
+
+    def __missing__(self, code: int) -> str:
+        ch = chr(code)
+        if unicodedata.decomposition(ch).startswith(_SAFE_TAGS):
+            ch = unicodedata.normalize("NFKC", ch)
+        if len(self) >= self.LIMIT:
+            self.clear()
+        self[code] = ch
+        return ch
+
+
+FOLDING = SafeFolding()
 
 
 def normalise_text(text: str) -> str:
     """NFKC where safe (ligatures, no-break spaces, width forms); other characters unchanged."""
     if text.isascii():
         return text
-    return "".join(_normalise_char(ch) for ch in text)
+    return text.translate(FOLDING)
 
 
 @dataclass(slots=True)
