@@ -462,6 +462,8 @@ def find_page_tables(
     bands += [(ys[0], ys[-1]) for ys, _, _ in groups]
     words = line_words(lines, bands)
     by_grid = grid_tables(page_no, r, grids, words, lines)
+    if not groups:
+        return by_grid, True
     rest = [w for w in words if not any(_inside(w, t.bbox) for t in by_grid)]
     return by_grid + rule_tables(page_no, groups, rest, lines), True
 
