@@ -100,7 +100,8 @@ def _parse_open(
         vectors: list[dict[str, object]] | None = [] if table_engine != "none" else None
         try:
             page = doc[index]
-            width, height = page.rect.width, page.rect.height
+            rect = page.rect
+            width, height = rect.width, rect.height
             textpage = page.get_textpage(flags=extract.VECTOR_FLAGS if vectors is not None else extract.TEXT_FLAGS)
             lines = page_lines(page, index + 1, textpage, vectors)  # type: ignore[arg-type]
         except (RuntimeError, ValueError, MemoryError, pymupdf.mupdf.FzErrorBase) as exc:

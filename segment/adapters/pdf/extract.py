@@ -202,7 +202,9 @@ def page_lines(
     """The text lines of one page, in pymupdf's order; empty lines dropped. When `vectors` is a
     list, the page's vector blocks are appended to it (the textpage must collect vectors)."""
     flags = VECTOR_FLAGS if vectors is not None else TEXT_FLAGS
-    data = page.get_text("dict", flags=flags, textpage=textpage)
+    if textpage is None:
+        textpage = page.get_textpage(flags=flags)
+    data = textpage.extractDICT()  # what page.get_text("dict") returns, without its page checks
     if vectors is not None:
         vectors.extend(b for b in data.get("blocks", ()) if b.get("type") == 3)
     out: list[Line] = []
