@@ -8,6 +8,8 @@ memory first so that disk reads are not timed. Single process throughout.
 Rows:
 - `markdown-it-py parse`: the baseline, `MarkdownIt.parse()` with the configuration our adapter
   uses (CommonMark preset, raw HTML on, tables and strikethrough, front matter plugin).
+- `markdown-it-py parse, GC paused`: the same with the cyclic GC paused per page, as our parse
+  and segmenter run (`segment.gcpause`): the stricter baseline.
 - `segment parse -> tree`: our adapter alone (`segment.parse_bytes`).
 - `segment parse + chunk`: parse, tree and segment, chunks made but not written.
 - `segment build (library)`: parse, tree, segment, and write one JSON Lines file per page to a
@@ -37,6 +39,7 @@ from markdown_it import MarkdownIt
 from mdit_py_plugins.front_matter import front_matter_plugin
 
 import segment
+from segment.gcpause import paused_gc
 from segment.settings import Settings
 
 CORPUS = Path(__file__).resolve().parents[1].parent / "shared" / "corpus" / "markdown"
@@ -58,6 +61,14 @@ def run_parse_only(docs: list[tuple[str, bytes]]) -> None:
     md = raw_parser()
     for _name, data in docs:
         md.parse(data.decode("utf-8", errors="replace"))
+
+
+def run_parse_only_paused(docs: list[tuple[str, bytes]]) -> None:
+    """The baseline with the cyclic GC paused for each page, as our parse runs (segment.gcpause)."""
+    md = raw_parser()
+    for _name, data in docs:
+        with paused_gc():
+            md.parse(data.decode("utf-8", errors="replace"))
 
 
 def run_tree(docs: list[tuple[str, bytes]]) -> None:
@@ -122,6 +133,7 @@ def main(argv: list[str]) -> int:
 
     steps: list[tuple[str, Callable[[Path], None]]] = [
         ("markdown-it-py parse", lambda _out: run_parse_only(docs)),
+        ("markdown-it-py parse, GC paused", lambda _out: run_parse_only_paused(docs)),
         ("segment parse -> tree", lambda _out: run_tree(docs)),
         (f"segment parse + chunk ({args.max_tokens} tokens)", lambda _out: run_segment(docs, settings)),
         (f"segment build (library, {args.max_tokens} tokens)", lambda out: run_build(docs, settings, out)),
