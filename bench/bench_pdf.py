@@ -26,6 +26,7 @@ import argparse
 import re
 import sys
 import time
+from statistics import median
 from collections.abc import Callable
 from pathlib import Path
 
@@ -149,6 +150,9 @@ def main(argv: list[str] | None = None) -> int:
         "extract": 0.0, "layout": 0.0,
     }
     fonts_scores = [0, 0, 0]
+    # Per repeat, summed over files: each repeat's raw and build ran side by side, so their ratio
+    # is the least disturbed by a machine that speeds up and slows down.
+    paired = {"raw": [0.0] * args.repeat, "nogc": [0.0] * args.repeat, "build": [0.0] * args.repeat}
     for path in files:
         data = path.read_bytes()
         with pymupdf.open(stream=data, filetype="pdf") as doc:
@@ -167,6 +171,10 @@ def main(argv: list[str] | None = None) -> int:
             start = time.process_time()
             build(data, path.name, "own", timing)
             runs.append((time.process_time() - start, timing))
+        for k in range(args.repeat):
+            paired["raw"][k] += raws[k]
+            paired["nogc"][k] += nogcs[k]
+            paired["build"][k] += runs[k][0]
         t_raw, t_nogc, t_img, t_parse = min(raws), min(nogcs), min(imgs), min(parses)
         t_build, timing = min(runs, key=lambda r: r[0])  # stage times of the fastest build
         row = (
@@ -206,6 +214,9 @@ def main(argv: list[str] | None = None) -> int:
         f"\npages/s: raw dict {t['pages'] / t['raw']:.0f}, dict with images {t['pages'] / t['img']:.0f}, "
         f"parse {t['pages'] / t['parse']:.0f}, build {t['pages'] / t['build']:.0f}"
     )
+    by_raw = median(b / r for b, r in zip(paired["build"], paired["raw"]))
+    by_nogc = median(b / r for b, r in zip(paired["build"], paired["nogc"]))
+    print(f"build / raw dict, median of the {args.repeat} paired repeats: {by_raw:.2f} (GC paused: {by_nogc:.2f})")
     seg = t["build"] - t["parse"]
     print(
         f"build stages (CPU s, fastest build of each file): text lines {t['extract']:.3f} "
