@@ -94,7 +94,7 @@ def run_watch(src: Path, out: Path, settings: Settings, *, jobs: int = 1, quiet_
 
     previous = {sig: signal.signal(sig, on_signal) for sig in (signal.SIGINT, signal.SIGTERM)}
     try:
-        with Syncer(src, out, settings, jobs=jobs) as syncer:
+        with Syncer(src, out, settings, jobs=jobs, patient=True) as syncer:
             syncer.stop_requested = stop.is_set  # a long initial reconcile stops between files
             loop = WatchLoop(syncer, quiet_s=quiet_ms / 1000)
             try:

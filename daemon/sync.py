@@ -52,12 +52,13 @@ Progress = Callable[[int, int], None]
 class Syncer:
     """Owns one OUT folder (lock, store, feed, workers) and reconciles it with SRC."""
 
-    def __init__(self, src: Path, out: Path, settings: Settings, *, jobs: int = 1) -> None:
+    def __init__(self, src: Path, out: Path, settings: Settings, *, jobs: int = 1, patient: bool = False) -> None:
         self.src = Path(os.path.abspath(src))
         self.out = Path(os.path.abspath(out))
         self.settings = settings
-        self.patient = False
-        """Watch mode (set by the watch loop): young repaired PDFs wait for a later event."""
+        self.patient = patient
+        """Watch mode: edits keep coming, so a young repaired PDF (likely a copy still being
+        written) waits for a later event instead of being published half-read."""
         self.fingerprint = settings.fingerprint()
         self.lock = OutputLock(self.out)
         try:

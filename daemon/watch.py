@@ -50,12 +50,11 @@ RESCAN_S = 600.0
 WRITE_RETRY_S = 5.0
 """After a failed write (disk full, I/O error), the next full reconcile runs this much later."""
 class WatchLoop:
-    """Runs the observer and the batch loop around one `Syncer`."""
+    """Runs the observer and the batch loop around one `Syncer` (made with `patient=True`)."""
 
     def __init__(self, syncer: Syncer, *, quiet_s: float = 0.2, rescan_s: float = RESCAN_S,
                  clock: Callable[[], float] = time.monotonic) -> None:
         self.syncer = syncer
-        syncer.patient = True  # edits keep coming: a half-copied PDF can wait for the next one
         self.quiet_s = quiet_s
         self.rescan_s = rescan_s
         self.clock = clock
@@ -281,7 +280,7 @@ class Watcher:
         self.loop: WatchLoop | None = None
 
     def __enter__(self) -> Watcher:
-        self.syncer = Syncer(self.src, self.out, self.settings, jobs=self.jobs)
+        self.syncer = Syncer(self.src, self.out, self.settings, jobs=self.jobs, patient=True)
         self.syncer.stop_requested = self._stop.is_set
         try:
             self.loop = WatchLoop(self.syncer, quiet_s=self.quiet_s, rescan_s=self.rescan_s)
