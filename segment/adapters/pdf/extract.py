@@ -24,8 +24,9 @@ VECTOR_FLAGS: int = TEXT_FLAGS | pymupdf.TEXT_COLLECT_VECTORS
 """The same, plus the page's vector paths as blocks of type 3 (table rulings in the same pass)."""
 
 _SPACE_WIDTH = 0.6
-"""Widest ordinary space, in font sizes (a monospaced character is 0.6 em in most code fonts:
-common practice); an inserted space wider than this stands for a gap and starts a new piece."""
+"""Widest ordinary space, in font sizes: the advance of a character in most monospaced code fonts
+(0.6 em, a value from memory, and wider than a proportional font's space). An inserted space wider
+than this stands for a gap and starts a new piece."""
 
 # pymupdf span flag bits (documented in the TextPage "dict" format).
 _SUPERSCRIPT = 1
