@@ -71,8 +71,9 @@ def line_words(lines: list[Line], bands: list[tuple[float, float]]) -> list[Word
     span boxes, not character boxes.
 
     pymupdf's own word list (`get_text("words")`) costs about as much per page as the whole
-    "dict" pass, since it boxes every character; on the shared PDFs and the fixtures the words
-    from spans give byte-identical chunks (cells are separate spans, or split at spaces).
+    "dict" pass, since it boxes every character. When these words replaced it, the chunks of the
+    shared PDFs and the fixtures stayed byte-identical: cells are separate spans, or split at
+    spaces. Only body lines are read, so a running head never lands in a cell.
     """
     out: list[Word] = []
     for index, ln in enumerate(lines):
