@@ -42,6 +42,16 @@ def _assert_budget(chunks: list[segment.Chunk]) -> None:
         assert c.tokens <= BUDGET or c.oversize, f"chunk {c.seq}: {c.tokens} tokens"
 
 
+def _chunks_or_clear_error(path: Path) -> list[segment.Chunk] | None:
+    """The file's chunks, each under the budget; None when the library refused it clearly."""
+    result = _outcome(path)
+    if isinstance(result, segment.SegmentError):
+        _assert_clear_error(result, path)
+        return None
+    _assert_budget(result)
+    return result
+
+
 def _write(tmp_path: Path, name: str, data: bytes) -> Path:
     path = tmp_path / name
     path.write_bytes(data)
@@ -129,26 +139,14 @@ DEEP: dict[str, tuple[bytes, str]] = {
         "level 9951",
     ),
 }
-# Cases that fail on the current code, with the finding (strict: a fix shows up as XPASS).
-DEEP_KNOWN: dict[str, str] = {}
-
 
 @pytest.mark.timeout(30)
-@pytest.mark.parametrize(
-    "name",
-    [
-        pytest.param(n, marks=[pytest.mark.xfail(reason=DEEP_KNOWN[n], strict=True)]) if n in DEEP_KNOWN else n
-        for n in sorted(DEEP)
-    ],
-)
+@pytest.mark.parametrize("name", sorted(DEEP))
 def test_deep_nesting_keeps_its_text_or_fails_clearly(tmp_path: Path, name: str) -> None:
     data, deepest = DEEP[name]
-    path = _write(tmp_path, name, data)
-    result = _outcome(path)
-    if isinstance(result, segment.SegmentError):
-        _assert_clear_error(result, path)
+    result = _chunks_or_clear_error(_write(tmp_path, name, data))
+    if result is None:
         return
-    _assert_budget(result)
     text = "\n".join(c.text for c in result)
     assert deepest in text, "content past the nesting limit was dropped"
 
@@ -168,11 +166,8 @@ LONG_LINES: dict[str, Callable[[], bytes]] = {
 @pytest.mark.parametrize("name", sorted(LONG_LINES))
 def test_single_20_mb_line_is_cut_under_budget_without_loss(tmp_path: Path, name: str) -> None:
     data = LONG_LINES[name]()
-    path = _write(tmp_path, name, data)
-    result = _outcome(path)
-    if isinstance(result, segment.SegmentError):
-        _assert_clear_error(result, path)
+    result = _chunks_or_clear_error(_write(tmp_path, name, data))
+    if result is None:
         return
-    _assert_budget(result)
     got = "".join("".join(c.text.split()) for c in result)
     assert got == "".join(data.decode().split()), "text was lost or changed while cutting the line"

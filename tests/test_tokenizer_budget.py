@@ -65,10 +65,6 @@ def _byte_bpe(texts: list[str]) -> Tokenizer:
 TRAINERS: dict[str, Callable[[list[str]], Tokenizer]] = {"wordpiece": _wordpiece, "byte-bpe": _byte_bpe}
 
 
-# Tokenizers under which the current code is known to break the budget, with the finding.
-KNOWN_FAILURES: dict[str, str] = {}
-
-
 @pytest.fixture(scope="module", params=sorted(TRAINERS))
 def tokenizer_file(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory) -> Path:
     texts = [p.read_text(encoding="utf-8") for p in _demo_pages()]
@@ -82,10 +78,7 @@ def _count(tok: Tokenizer, text: str) -> int:
     return len(tok.encode(text, add_special_tokens=False).ids)
 
 
-def test_every_chunk_fits_under_the_real_tokenizer(tokenizer_file: Path, request: pytest.FixtureRequest) -> None:
-    known = KNOWN_FAILURES.get(request.node.callspec.params["tokenizer_file"])
-    if known:
-        request.applymarker(pytest.mark.xfail(reason=known, strict=True))
+def test_every_chunk_fits_under_the_real_tokenizer(tokenizer_file: Path) -> None:
     tok = Tokenizer.from_file(str(tokenizer_file))
     settings = Settings(tokenizer=str(tokenizer_file), max_tokens=MAX_TOKENS, min_tokens=16)
     bad: list[str] = []
@@ -113,16 +106,8 @@ def test_the_budget_binds(tokenizer_file: Path) -> None:
 
 
 # Found by running the shared corpus under the byte-level BPE (6 chunks over 256, up to 268).
-KNOWN_ITEM_CODE: dict[str, str] = {}
-"""F11 (fixed): parts of code inside a list item were counted before the item's indentation."""
-
-
-def test_code_inside_a_list_item_fits_under_the_real_tokenizer(
-    tokenizer_file: Path, request: pytest.FixtureRequest, tmp_path: Path
-) -> None:
-    known = KNOWN_ITEM_CODE.get(request.node.callspec.params["tokenizer_file"])
-    if known:
-        request.applymarker(pytest.mark.xfail(reason=known, strict=True))
+# F11 (fixed): parts of code inside a list item were counted before the item's indentation.
+def test_code_inside_a_list_item_fits_under_the_real_tokenizer(tokenizer_file: Path, tmp_path: Path) -> None:
     # CommonMark 0.31.2, "List items": a fenced block indented to the item's content column
     # belongs to the item.
     body = "".join(f"      key_{i}: value number {i}\n" for i in range(80))
@@ -140,14 +125,11 @@ def test_code_inside_a_list_item_fits_under_the_real_tokenizer(
     assert all(n <= MAX_TOKENS or c.oversize for n, c in zip(counts, chunks)), counts
 
 
-KNOWN_CORPUS: dict[str, str] = {}
-"""F11b (fixed): one code part inside a list item went 1 over under byte-level BPE."""
-
-
+# F11b (fixed): one code part inside a list item went 1 over under byte-level BPE.
 # Source: ../shared/corpus/markdown (OpenTelemetry docs, CC-BY-4.0), 441 real pages, counted
 # again by the tokenizers library itself.
 @pytest.mark.corpus
-def test_real_docs_fit_under_the_real_tokenizer(tokenizer_file: Path, request: pytest.FixtureRequest) -> None:
+def test_real_docs_fit_under_the_real_tokenizer(tokenizer_file: Path) -> None:
     try:
         from tests import checker
     except ImportError:  # pragma: no cover
@@ -156,9 +138,6 @@ def test_real_docs_fit_under_the_real_tokenizer(tokenizer_file: Path, request: p
     root = checker.corpus_root()
     if not root.is_dir():
         pytest.skip(f"shared corpus not present: {root}")
-    known = KNOWN_CORPUS.get(request.node.callspec.params["tokenizer_file"])
-    if known:
-        request.applymarker(pytest.mark.xfail(reason=known, strict=True))
     tok = Tokenizer.from_file(str(tokenizer_file))
     settings = Settings(tokenizer=str(tokenizer_file), max_tokens=256)
     bad: list[str] = []
@@ -170,16 +149,8 @@ def test_real_docs_fit_under_the_real_tokenizer(tokenizer_file: Path, request: p
     assert not bad, "\n".join(bad[:10])
 
 
-KNOWN_ONE_LINE_CODE: dict[str, str] = {}
-"""F18 (fixed): a one-line code block one token over the budget was kept whole, not flagged."""
-
-
-def test_one_line_code_block_just_over_budget_is_cut_between_words(
-    tokenizer_file: Path, request: pytest.FixtureRequest, tmp_path: Path
-) -> None:
-    known = KNOWN_ONE_LINE_CODE.get(request.node.callspec.params["tokenizer_file"])
-    if known:
-        request.applymarker(pytest.mark.xfail(reason=known, strict=True))
+# F18 (fixed): a one-line code block one token over the budget was kept whole, not flagged.
+def test_one_line_code_block_just_over_budget_is_cut_between_words(tokenizer_file: Path, tmp_path: Path) -> None:
     tok = Tokenizer.from_file(str(tokenizer_file))
     line = "zfmkkxaodw pkprywesyd"
     fenced = _count(tok, f"```sh\n{line}\n```")
