@@ -23,6 +23,9 @@ TEXT_FLAGS: int = (
 VECTOR_FLAGS: int = TEXT_FLAGS | pymupdf.TEXT_COLLECT_VECTORS
 """The same, plus the page's vector paths as blocks of type 3 (table rulings in the same pass)."""
 
+Box = tuple[float, float, float, float]
+"""A box on a page: (x0, y0, x1, y1) in points, origin top-left."""
+
 _SPACE_WIDTH = 0.6
 """Widest ordinary space, in font sizes: the advance of a character in most monospaced code fonts
 (0.6 em, a value from memory, and wider than a proportional font's space). An inserted space wider
@@ -117,9 +120,6 @@ class Line:
     def finish(self) -> None:
         """Compute text and style summaries from the pieces."""
         pieces = self.pieces
-        if len(pieces) == 1:
-            self._finish_one(pieces[0])
-            return
         self.text = "".join([p.text for p in pieces])
         # Tallies by the raw size, folded to half points at the end (a line has few sizes).
         sizes: dict[float, int] = {}
@@ -144,16 +144,6 @@ class Line:
         self.bold = bold / total if total else 0.0
         self.mono = mono / total if total else 0.0
         self.prose_size = _dominant(prose) if prose else self.size
-
-    def _finish_one(self, piece: Piece) -> None:
-        # The same summaries for a line of one piece (nearly half of all lines), without the
-        # tallies: the size counts only when the piece has visible characters and is not raised.
-        self.text = text = piece.text
-        visible = len(text) > text.count(" ")
-        self.size = int(piece.size * 2 + 0.5) / 2 if visible and not piece.superscript else piece.size
-        self.bold = 1.0 if visible and piece.bold else 0.0
-        self.mono = 1.0 if visible and piece.mono else 0.0
-        self.prose_size = self.size
 
     @property
     def height(self) -> float:

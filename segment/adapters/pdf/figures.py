@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from segment.adapters.pdf.extract import Line
+from segment.adapters.pdf.extract import Box, Line
 
 MIN_PATHS = 8
 """Fewest curved or slanted paths that make a figure."""
@@ -21,8 +21,6 @@ MAX_LABEL_WORDS = 6
 """Labels are short; the median line inside a figure box has at most this many words."""
 MARGIN = 12.0
 """Short lines this close outside the box (axis ticks, a chart title) are labels too."""
-
-Box = tuple[float, float, float, float]
 
 
 @dataclass(slots=True)

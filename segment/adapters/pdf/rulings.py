@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 
 import pymupdf
 
-from segment.adapters.pdf.extract import Line
+from segment.adapters.pdf.extract import Box, Line
 
 TOL = 2.0
 """Points within which rulings are taken to touch."""
@@ -25,8 +25,6 @@ MIN_RULE_WIDTH = 40.0
 
 MAX_FRAMES = 500
 """At most this many frames per page are checked (a form or calendar grid has thousands)."""
-
-Box = tuple[float, float, float, float]
 
 
 @dataclass(slots=True)

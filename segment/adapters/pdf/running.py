@@ -11,7 +11,7 @@ from __future__ import annotations
 import re
 from collections import defaultdict
 
-from segment.adapters.pdf.extract import Line
+from segment.adapters.pdf.extract import Box, Line
 
 BAND = 0.12
 """Share of the page height at the top and at the bottom where running lines may sit."""
@@ -36,9 +36,6 @@ def running_key(text: str) -> str:
 def is_page_number(text: str) -> bool:
     """True for "7", "- 7 -", "Page 7 of 90", "vii" (not for a dot-leader contents line)."""
     return ". ." not in text and bool(_PAGE_NUMBER.match(running_key(text)))
-
-
-Box = tuple[float, float, float, float]
 
 
 def find_running(
