@@ -140,11 +140,11 @@ def _parse_open(
         body = [ln for ln in lines if "running" not in ln.flags]
         if page_rulings[index].frames or page_rulings[index].v:
             rulings.mark_framed(body, page_rulings[index])
-        if table_engine != "none" and body and tables.is_body_candidate(body, page_rulings[index]):
+        if table_engine != "none" and body:
             ts = time.process_time()
             page = doc[index] if table_engine == "pymupdf" else None  # only find_tables() reads it
-            found, _ = tables.find_page_tables(page, index + 1, body, table_engine, page_rulings[index])
-            table_pages += 1
+            found, candidate = tables.find_page_tables(page, index + 1, body, table_engine, page_rulings[index])
+            table_pages += int(candidate)
             body = _place_tables(body, found)
             table_time += time.process_time() - ts
         body, labels = figures.take_labels(body, page_figures[index], index + 1)

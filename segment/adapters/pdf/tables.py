@@ -83,16 +83,7 @@ def line_words(lines: list[Line], bands: list[tuple[float, float]]) -> list[Word
                 break
         else:
             continue
-        pieces = ln.pieces
-        if len(pieces) == 1:  # most table cells: one span, no piece lookup
-            piece = pieces[0]
-            step = (piece.x1 - piece.x0) / max(len(piece.text), 1)
-            for n, m in enumerate(_WORD.finditer(ln.text)):
-                x0 = piece.x0 + m.start() * step
-                x1 = piece.x0 + m.end() * step
-                out.append(Word(x0, ln.y0, x1, ln.y1, m.group(), (ln.block, index, n), (x0 + x1) / 2, cy))
-            continue
-        edges = _char_edges(pieces)
+        edges = _char_edges(ln.pieces)
         for n, m in enumerate(_WORD.finditer(ln.text)):
             x0 = edges(m.start(), False)
             x1 = edges(m.end() - 1, True)
@@ -101,8 +92,8 @@ def line_words(lines: list[Line], bands: list[tuple[float, float]]) -> list[Word
 
 
 def _char_edges(pieces: list[Piece]) -> Callable[[int, bool], float]:
-    """For a line of several pieces: the left (or right) edge of the character at an offset in
-    the line text, each piece's width spread evenly over its characters."""
+    """The left (or right) edge of the character at an offset in the line text, each piece's
+    width spread evenly over its characters."""
     starts: list[int] = []
     steps: list[float] = []
     offset = 0
@@ -424,15 +415,13 @@ def pymupdf_tables(page: pymupdf.Page, page_no: int) -> list[FoundTable]:
     return out
 
 
-def is_body_candidate(lines: list[Line], r: Rulings) -> bool:
-    """Whether the page's rulings inside its body text (running head and foot rules left out)
-    could frame a table."""
-    top, bottom = body_band(lines)
+def _within(r: Rulings, top: float, bottom: float) -> Rulings:
+    """The rulings with the horizontal ones outside the body band (running head and foot rules)
+    left out."""
     inner = [h for h in r.h if top <= h[0] <= bottom]
     if len(inner) == len(r.h):
-        return is_candidate(r)
-    strokes = [h for h in r.strokes if top <= h[0] <= bottom]
-    return is_candidate(Rulings(inner, r.v, r.fills, strokes=strokes))
+        return r
+    return Rulings(inner, r.v, r.fills, strokes=[h for h in r.strokes if top <= h[0] <= bottom])
 
 
 def find_page_tables(
@@ -449,9 +438,9 @@ def find_page_tables(
         if page is None:
             raise ValueError("find_page_tables needs the page or its rulings")
         r = rulings(page)
-    if not is_body_candidate(lines, r):
-        return [], False
     top, bottom = body_band(lines)
+    if not is_candidate(_within(r, top, bottom)):
+        return [], False
     if engine == "pymupdf":
         if page is None:
             raise ValueError('engine="pymupdf" needs the page')
