@@ -51,8 +51,9 @@ def latency(work: Path, saves: int, quiet_ms: int) -> list[float]:
     """Seconds from the close() of a ~10 KB save to its chunk file holding the new text."""
     src, out = work / f"lat-src-{quiet_ms}", work / f"lat-out-{quiet_ms}"
     src.mkdir()
-    body = "\n\n".join(f"## Part {i}\n\n" + "Drones return to the dock when the battery is low. " * 8
-                       for i in range(20))
+    body = "\n\n".join(
+        f"## Part {i}\n\n" + "Drones return to the dock when the battery is low. " * 8 for i in range(20)
+    )
     target = src / "page.md"
     target.write_text(f"# Fleet page\n\nmarker-start\n\n{body}\n")
     chunk_file = out / "chunks" / "page.md.jsonl"
@@ -79,7 +80,7 @@ def latency(work: Path, saves: int, quiet_ms: int) -> list[float]:
 
 def pct(values: list[float], q: float) -> float:
     ordered = sorted(values)
-    return ordered[min(len(ordered) - 1, int(round(q * (len(ordered) - 1))))]
+    return ordered[min(len(ordered) - 1, round(q * (len(ordered) - 1)))]
 
 
 def main() -> None:
@@ -114,30 +115,47 @@ def main() -> None:
                     shutil.rmtree(out)
         shutil.move(work / f"first1-{args.repeat - 1}", work / "out1")
         rows.append((f"raw library, 1 process ({files} files, {size_mb:.1f} MB)", f"{t_raw:.2f} s", "1.00x"))
-        rows.append(("raw library + JSON Lines bytes, 1 process", f"{t_json:.2f} s", f"{t_json / t_raw:.2f}x raw"))
-        rows.append((f"first build --jobs 1 ({parsed1} files re-segmented)", f"{t1:.2f} s", f"{t1 / t_raw:.2f}x raw"))
+        rows.append(
+            ("raw library + JSON Lines bytes, 1 process", f"{t_json:.2f} s", f"{t_json / t_raw:.2f}x raw")
+        )
+        rows.append(
+            (f"first build --jobs 1 ({parsed1} files re-segmented)", f"{t1:.2f} s", f"{t1 / t_raw:.2f}x raw")
+        )
         rows.append(("first build --jobs 2", f"{t2:.2f} s", f"{t1 / t2:.2f}x faster than --jobs 1"))
         r1, p1 = timed_build(src, work / "out1", jobs=1)
-        rows.append((f"unchanged rebuild ({p1} files re-segmented)", f"{r1:.2f} s",
-                     f"{r1 / t1:.1%} of first build"))
+        rows.append(
+            (f"unchanged rebuild ({p1} files re-segmented)", f"{r1:.2f} s", f"{r1 / t1:.1%} of first build")
+        )
         for path in src.rglob("*.md"):  # new ctime and mtime, same bytes: hashed, not parsed
             os.utime(path)
         r2, p2 = timed_build(src, work / "out1", jobs=1)
-        rows.append((f"rebuild after touching every file ({p2} re-segmented)", f"{r2:.2f} s",
-                     f"{r2 / t1:.1%} of first build"))
+        rows.append(
+            (
+                f"rebuild after touching every file ({p2} re-segmented)",
+                f"{r2:.2f} s",
+                f"{r2 / t1:.1%} of first build",
+            )
+        )
         f1, _ = timed_build(src, work / "out1", jobs=1, full=True)
         rows.append(("build --full on built output --jobs 1", f"{f1:.2f} s", f"{f1 / t_raw:.2f}x raw"))
         for quiet in (200, 50):
             lat = latency(work, args.saves, quiet)
-            rows.append((f"save -> chunk file, quiet {quiet} ms (n={len(lat)})",
-                         f"p50 {pct(lat, 0.5) * 1000:.0f} ms", f"p95 {pct(lat, 0.95) * 1000:.0f} ms"))
+            rows.append(
+                (
+                    f"save -> chunk file, quiet {quiet} ms (n={len(lat)})",
+                    f"p50 {pct(lat, 0.5) * 1000:.0f} ms",
+                    f"p95 {pct(lat, 0.95) * 1000:.0f} ms",
+                )
+            )
     width = max(len(r[0]) for r in rows)
     print(f"{'measure':<{width}}  {'time':>12}  ratio")
     for name, value, ratio in rows:
         print(f"{name:<{width}}  {value:>12}  {ratio}")
     load = os.getloadavg()[0]
-    print(f"\n({os.cpu_count()} CPUs, load average {load:.1f} at the end; raw = segment.chunk_file "
-          "over the same files in this process)")
+    print(
+        f"\n({os.cpu_count()} CPUs, load average {load:.1f} at the end; raw = segment.chunk_file "
+        "over the same files in this process)"
+    )
 
 
 if __name__ == "__main__":

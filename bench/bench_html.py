@@ -76,10 +76,16 @@ def run(name: str, pages: list[tuple[str, bytes]], repeat: int, with_bs4: bool) 
         rows.append(("bs4(lxml) parse", _best(lambda: [BeautifulSoup(d, "lxml") for _n, d in pages], repeat)))
     rows.append(("adapter (lxml walk)", _best(lambda: [parse(d, n) for n, d in pages], repeat)))
     # Same repeat as the others: the first run also pays spaCy's one-time load (about 0.7 s).
-    rows.append(("adapter + chunks", _best(
-        lambda: [list(segment.chunk(parse(d, n), settings)) for n, d in pages], repeat)))
+    rows.append(
+        (
+            "adapter + chunks",
+            _best(lambda: [list(segment.chunk(parse(d, n), settings)) for n, d in pages], repeat),
+        )
+    )
     if with_bs4:
-        rows.append(("bs4 path (soup -> same walk)", _best(lambda: [bs4_path(d, n) for n, d in pages], repeat)))
+        rows.append(
+            ("bs4 path (soup -> same walk)", _best(lambda: [bs4_path(d, n) for n, d in pages], repeat))
+        )
     lxml_t = rows[0][1]
     bs4_t = rows[1][1] if with_bs4 else None
     print(f"\n{name}: {len(pages)} pages, {size:.1f} MB, best of {repeat}")
@@ -94,8 +100,10 @@ def run(name: str, pages: list[tuple[str, bytes]], repeat: int, with_bs4: bool) 
         )
         walk_t = rows[2][1]
         soup_t = rows[-1][1]
-        print(f"trees identical (spans left out): {same}/{len(pages)}; "
-              f"lxml walk is {soup_t / walk_t:.1f}x faster than the bs4 path")
+        print(
+            f"trees identical (spans left out): {same}/{len(pages)}; "
+            f"lxml walk is {soup_t / walk_t:.1f}x faster than the bs4 path"
+        )
 
 
 def main(argv: list[str]) -> int:

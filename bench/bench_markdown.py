@@ -140,7 +140,9 @@ def main(argv: list[str]) -> int:
     ]
     if args.daemon:
         # Wall clock: the daemon parses in a worker process, whose CPU time this one does not see.
-        steps.append(("segment build (daemon, jobs=1, wall)", lambda out: run_daemon(args.corpus, settings, out)))
+        steps.append(
+            ("segment build (daemon, jobs=1, wall)", lambda out: run_daemon(args.corpus, settings, out))
+        )
     # Round robin, best of each: a busy machine slows every step alike instead of one.
     best: dict[str, float] = {}
     for _ in range(args.repeat):

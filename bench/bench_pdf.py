@@ -26,9 +26,9 @@ import argparse
 import re
 import sys
 import time
-from statistics import median
 from collections.abc import Callable
 from pathlib import Path
+from statistics import median
 
 import pymupdf
 
@@ -110,7 +110,9 @@ def prove(path: Path) -> tuple[int, int, int, int, int, int]:
 def headings_score(doc: segment.Document, toc: list[list[object]]) -> tuple[int, int, int]:
     from difflib import SequenceMatcher
 
-    found = [(s.heading.text, s.heading.span.pages[0]) for _, s in doc.walk() if s.heading and s.heading.span.pages]
+    found = [
+        (s.heading.text, s.heading.span.pages[0]) for _, s in doc.walk() if s.heading and s.heading.span.pages
+    ]
     used: set[int] = set()
     hits = 0
     for text, page in found:
@@ -146,8 +148,17 @@ def main(argv: list[str] | None = None) -> int:
         head += f" {'build(ft)':>9} {'x raw':>6}"
     print(head)
     totals = {
-        "pages": 0, "raw": 0.0, "nogc": 0.0, "img": 0.0, "parse": 0.0, "build": 0.0, "tables": 0.0, "cand": 0, "ft": 0.0,
-        "extract": 0.0, "layout": 0.0,
+        "pages": 0,
+        "raw": 0.0,
+        "nogc": 0.0,
+        "img": 0.0,
+        "parse": 0.0,
+        "build": 0.0,
+        "tables": 0.0,
+        "cand": 0,
+        "ft": 0.0,
+        "extract": 0.0,
+        "layout": 0.0,
     }
     fonts_scores = [0, 0, 0]
     # Per repeat, summed over files: each repeat's raw and build ran side by side, so their ratio
@@ -216,7 +227,9 @@ def main(argv: list[str] | None = None) -> int:
     )
     by_raw = median(b / r for b, r in zip(paired["build"], paired["raw"]))
     by_nogc = median(b / r for b, r in zip(paired["build"], paired["nogc"]))
-    print(f"build / raw dict, median of the {args.repeat} paired repeats: {by_raw:.2f} (GC paused: {by_nogc:.2f})")
+    print(
+        f"build / raw dict, median of the {args.repeat} paired repeats: {by_raw:.2f} (GC paused: {by_nogc:.2f})"
+    )
     seg = t["build"] - t["parse"]
     print(
         f"build stages (CPU s, fastest build of each file): text lines {t['extract']:.3f} "
@@ -226,9 +239,13 @@ def main(argv: list[str] | None = None) -> int:
     hits, found, expected = fonts_scores
     if found and expected:
         p, r = hits / found, hits / expected
-        print(f"font headings vs outlines (use_outline=False): precision {p:.3f} recall {r:.3f} F1 {2 * p * r / (p + r):.3f}")
+        print(
+            f"font headings vs outlines (use_outline=False): precision {p:.3f} recall {r:.3f} F1 {2 * p * r / (p + r):.3f}"
+        )
     if args.prove:
-        print(f"\n{'file':28} {'ref tables':>10} {'on cand.':>8} {'ours':>5} {'ref rows':>8} {'same':>5} {'ours, no ref':>12}")
+        print(
+            f"\n{'file':28} {'ref tables':>10} {'on cand.':>8} {'ours':>5} {'ref rows':>8} {'same':>5} {'ours, no ref':>12}"
+        )
         sums = [0] * 6
         for path in files:
             res = prove(path)

@@ -62,10 +62,19 @@ def main() -> None:
     rows = [
         ("chunks", f"{len(texts)}"),
         ("estimate / real, median", f"{statistics.median(ratios):.3f}"),
-        ("estimate / real, 5th-95th pct", f"{sorted(ratios)[len(ratios)//20]:.3f} - {sorted(ratios)[-len(ratios)//20]:.3f}"),
+        (
+            "estimate / real, 5th-95th pct",
+            f"{sorted(ratios)[len(ratios) // 20]:.3f} - {sorted(ratios)[-len(ratios) // 20]:.3f}",
+        ),
         ("mean absolute error", f"{statistics.mean(abs(r - 1) for r in ratios):.1%}"),
-        ("estimate >= real (budget holds)", f"{sum(e >= r for e, r in zip(e_counts, r_counts)) / len(texts):.1%}"),
-        (f"chunks over {args.max_tokens} under the real tokenizer", f"{sum(r > args.max_tokens for r in r_counts)}"),
+        (
+            "estimate >= real (budget holds)",
+            f"{sum(e >= r for e, r in zip(e_counts, r_counts)) / len(texts):.1%}",
+        ),
+        (
+            f"chunks over {args.max_tokens} under the real tokenizer",
+            f"{sum(r > args.max_tokens for r in r_counts)}",
+        ),
         ("estimator speed", f"{mb / (t1 - t0):.1f} MB/s"),
         ("tokenizer.json speed", f"{mb / (t2 - t1):.1f} MB/s"),
     ]

@@ -34,7 +34,9 @@ def documents(formats: set[str]) -> list[Path]:
     for source in SOURCES:
         if source.is_dir():
             out += sorted(
-                p for p in source.rglob("*") if p.is_file() and is_supported(p) and adapter_for(p).format in formats
+                p
+                for p in source.rglob("*")
+                if p.is_file() and is_supported(p) and adapter_for(p).format in formats
             )
     return out
 

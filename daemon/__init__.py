@@ -11,17 +11,17 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from segment.settings import Settings
-
 from daemon.feed import read_feed, replay
 from daemon.lock import OutputBusy
 from daemon.store import StatusReport, read_status
-from daemon.sync import SourceMissing, SyncReport, Syncer
+from daemon.sync import SourceMissing, Syncer, SyncReport
 from daemon.watch import Watcher
+from segment.settings import Settings
 
 
-def reconcile(src: str | Path, out: str | Path, settings: Settings | None = None, *, jobs: int = 1,
-              full: bool = False) -> SyncReport:
+def reconcile(
+    src: str | Path, out: str | Path, settings: Settings | None = None, *, jobs: int = 1, full: bool = False
+) -> SyncReport:
     """Bring OUT up to date with SRC once (`full`: re-segment every file) and report what changed."""
     with Syncer(Path(src), Path(out), settings or Settings(), jobs=jobs) as syncer:
         return syncer.reconcile(full=full)

@@ -18,13 +18,12 @@ from typing import Any
 
 import click
 
-from segment.settings import Settings
-
 from daemon.lock import OutputBusy
 from daemon.store import read_status
 from daemon.sync import SourceMissing, Syncer
 from daemon.watch import WatchLoop
 from daemon.workers import WorkerStartError
+from segment.settings import Settings
 
 log = logging.getLogger("daemon")
 
@@ -40,8 +39,9 @@ def _ensure_logging() -> None:
         log.setLevel(logging.INFO)
 
 
-def run_build(src: Path, out: Path, settings: Settings, *, jobs: int = 1, full: bool = False,
-              progress: bool = False) -> int:
+def run_build(
+    src: Path, out: Path, settings: Settings, *, jobs: int = 1, full: bool = False, progress: bool = False
+) -> int:
     """One reconcile pass. Exit code 0 when every file is segmented, 1 when some failed."""
     _ensure_logging()
     bar: Any = None
@@ -67,8 +67,11 @@ def run_build(src: Path, out: Path, settings: Settings, *, jobs: int = 1, full: 
         click.echo(f"Error: {exc}", err=True)
         return 1
     except (OSError, sqlite3.Error) as exc:  # disk full, I/O error: nothing past it was committed
-        click.echo(f"Error: cannot write the output: {exc}; nothing after the last commit was "
-                   "recorded, so running the build again redoes it", err=True)
+        click.echo(
+            f"Error: cannot write the output: {exc}; nothing after the last commit was "
+            "recorded, so running the build again redoes it",
+            err=True,
+        )
         return 1
     if failed is not None and failed.failed:
         for source, status, reason in failed.failed:

@@ -33,7 +33,7 @@ class EnqueueHandler(FileSystemEventHandler):
     def dispatch(self, event: FileSystemEvent) -> None:
         try:
             self.events.put_nowait(event)
-        except Exception:  # noqa: BLE001 - an exception here would kill the observer thread
+        except Exception:
             pass
 
 
@@ -64,7 +64,7 @@ def changes_of(event: FileSystemEvent, scope: Scope) -> list[Change]:
             continue
         name = rel.rsplit("/", 1)[-1]
         if "/" not in rel and name.startswith(COOKIE_PREFIX):
-            out.append(Change("cookie", name[len(COOKIE_PREFIX):]))
+            out.append(Change("cookie", name[len(COOKIE_PREFIX) :]))
         elif event.is_directory:
             if event.event_type != "modified" and event.event_type != "attrib":
                 out.append(Change("folder", rel))
@@ -89,7 +89,7 @@ class QueueSource:
             return [item]
         try:
             return changes_of(item, self.scope)
-        except Exception:  # noqa: BLE001 - a strange event means: look everywhere
+        except Exception:
             log.exception("could not read a file-system event; running a full reconcile")
             return [FULL]
 

@@ -73,7 +73,7 @@ class Feed:
             crashpoint("mid_feed_write")
             view = memoryview(data)[half:]
             while view:
-                view = view[os.write(fd, view):]
+                view = view[os.write(fd, view) :]
             os.fsync(fd)
         finally:
             os.close(fd)

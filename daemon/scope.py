@@ -21,23 +21,25 @@ from pathlib import Path
 
 import pathspec
 
+from daemon.store import StatSig
 from segment.adapters import is_supported
 from segment.settings import Settings
-
-from daemon.store import StatSig
 
 COOKIE_PREFIX = ".docsegment-cookie-"
 """Names of the barrier files `Watcher.sync()` creates at the root (never segmented)."""
 
 EDITOR_LITTER: tuple[str, ...] = (
-    "4913",             # vim's probe file (common practice: vim writes it to test the folder)
-    "*~",               # backup files (vim, emacs, gedit)
-    "*.swp", "*.swx", "*.swo",  # vim swap files
-    ".#*",              # emacs lock files
-    "#*#",              # emacs auto-save files
+    "4913",  # vim's probe file (common practice: vim writes it to test the folder)
+    "*~",  # backup files (vim, emacs, gedit)
+    "*.swp",
+    "*.swx",
+    "*.swo",  # vim swap files
+    ".#*",  # emacs lock files
+    "#*#",  # emacs auto-save files
     ".goutputstream-*",  # GLib/gedit atomic-save temp files
     "*.tmp",
-    "*.part", "*.crdownload",  # half-downloaded files
+    "*.part",
+    "*.crdownload",  # half-downloaded files
     COOKIE_PREFIX + "*",
 )
 

@@ -120,8 +120,12 @@ class Store:
             conn = _connect(path)
         except (sqlite3.DatabaseError, StoreCorrupt) as exc:
             aside = path.with_name(f"{STATE_NAME}.corrupt-{time.strftime('%Y%m%dT%H%M%S')}")
-            log.warning("%s: state database is corrupt (%s); moved to %s, rebuilding by reconcile",
-                        path, exc, aside.name)
+            log.warning(
+                "%s: state database is corrupt (%s); moved to %s, rebuilding by reconcile",
+                path,
+                exc,
+                aside.name,
+            )
             for suffix in ("", "-wal", "-shm"):
                 side = Path(str(path) + suffix)
                 if side.exists():
@@ -180,9 +184,22 @@ class Store:
         s = state.sig
         self.conn.execute(
             "INSERT OR REPLACE INTO files VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
-            (_key(state.path), state.source, s.size, s.mtime_ns, s.ctime_ns, s.ino, s.dev,
-             state.hash, state.fingerprint, json.dumps(state.ids), state.status, state.error,
-             state.failures, state.recorded_ns),
+            (
+                _key(state.path),
+                state.source,
+                s.size,
+                s.mtime_ns,
+                s.ctime_ns,
+                s.ino,
+                s.dev,
+                state.hash,
+                state.fingerprint,
+                json.dumps(state.ids),
+                state.status,
+                state.error,
+                state.failures,
+                state.recorded_ns,
+            ),
         )
 
     def delete(self, path: str) -> None:
@@ -237,8 +254,7 @@ def _key(path: str) -> bytes:
 
 
 def _row(row: tuple[object, ...]) -> FileState:
-    (path, source, size, mtime, ctime, ino, dev, digest, fp, ids, status, error, failures,
-     recorded) = row
+    (path, source, size, mtime, ctime, ino, dev, digest, fp, ids, status, error, failures, recorded) = row
     return FileState(
         path=os.fsdecode(bytes(path)),  # type: ignore[arg-type]
         source=str(source),
@@ -298,10 +314,16 @@ def read_status(out: Path) -> StatusReport | None:
     finally:
         conn.close()
     counters = {
-        k: int(v) for k, v in meta.items()
+        k: int(v)
+        for k, v in meta.items()
         if k in ("overflow_recrawls", "observer_restarts", "rebuilt_state", "full_reconciles")
     }
     return StatusReport(
-        files=int(files), chunks=int(chunks), failed=failed, last_seq=int(meta.get("last_seq", 0)),
-        degraded=str(meta.get("degraded", "")), counters=counters, noted=noted,
+        files=int(files),
+        chunks=int(chunks),
+        failed=failed,
+        last_seq=int(meta.get("last_seq", 0)),
+        degraded=str(meta.get("degraded", "")),
+        counters=counters,
+        noted=noted,
     )

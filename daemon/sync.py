@@ -22,8 +22,6 @@ from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from segment.settings import Settings
-
 from daemon.chunkfiles import CHUNKS_DIR, chunk_name, read_ids
 from daemon.durable import crashpoint, fsync_dir, remove_temps, walk_files, write_if_changed
 from daemon.feed import Feed, FeedEntry, compensation, diff_ids, repair_tail
@@ -32,6 +30,7 @@ from daemon.report import SyncReport
 from daemon.scope import Scope, display_name
 from daemon.store import FileState, StatSig, Store
 from daemon.workers import Outcome, Task, WorkerPool, content_hash
+from segment.settings import Settings
 
 log = logging.getLogger(__name__)
 
@@ -52,7 +51,9 @@ Progress = Callable[[int, int], None]
 class Syncer:
     """Owns one OUT folder (lock, store, feed, workers) and reconciles it with SRC."""
 
-    def __init__(self, src: Path, out: Path, settings: Settings, *, jobs: int = 1, patient: bool = False) -> None:
+    def __init__(
+        self, src: Path, out: Path, settings: Settings, *, jobs: int = 1, patient: bool = False
+    ) -> None:
         self.src = Path(os.path.abspath(src))
         self.out = Path(os.path.abspath(out))
         self.settings = settings
@@ -91,8 +92,10 @@ class Syncer:
         last = self.feed.append(entries)
         with self.store.transaction():
             self.store.set_meta("last_seq", last)
-        log.warning("the feed held entries past the last commit (interrupted run); "
-                    "appended %d entries to undo them", len(entries))
+        log.warning(
+            "the feed held entries past the last commit (interrupted run); appended %d entries to undo them",
+            len(entries),
+        )
 
     def close(self) -> None:
         """Stop the workers, close the store, release the lock."""
@@ -120,7 +123,8 @@ class Syncer:
             raise SourceEmpty(
                 f"{self.src}: source folder holds none of the {len(rows)} files in the output "
                 "(an unmounted share?); nothing was deleted. A full build (--full) accepts "
-                "that they are gone")
+                "that they are gone"
+            )
         report = self._sync(on_disk, rows, force=full, progress=progress)
         report.deleted += self._remove_orphans(set(self.store.all()) | set(on_disk))
         with self.store.transaction():
@@ -148,13 +152,20 @@ class Syncer:
 
     def _check_root(self) -> None:
         if not self.src.is_dir():
-            raise SourceMissing(f"{self.src}: source folder is missing or not a folder; "
-                                "nothing was changed in the output")
+            raise SourceMissing(
+                f"{self.src}: source folder is missing or not a folder; nothing was changed in the output"
+            )
 
     # -- the pass --------------------------------------------------------------------------
 
-    def _sync(self, on_disk: dict[str, StatSig], rows: dict[str, FileState], *, force: bool,
-              progress: Progress | None) -> SyncReport:
+    def _sync(
+        self,
+        on_disk: dict[str, StatSig],
+        rows: dict[str, FileState],
+        *,
+        force: bool,
+        progress: Progress | None,
+    ) -> SyncReport:
         started = time.monotonic()
         report = SyncReport(scanned=len(set(on_disk) | set(rows)))
         self._group = _Group()
@@ -196,8 +207,13 @@ class Syncer:
         self._group.rows.append(row)
         return not retry
 
-    def _parse(self, to_parse: dict[str, StatSig], rows: dict[str, FileState], report: SyncReport,
-               progress: Progress | None) -> None:
+    def _parse(
+        self,
+        to_parse: dict[str, StatSig],
+        rows: dict[str, FileState],
+        report: SyncReport,
+        progress: Progress | None,
+    ) -> None:
         total = len(to_parse)
         done = 0
         attempts: dict[str, int] = {}
@@ -236,8 +252,7 @@ class Syncer:
 
     # -- one file's result -----------------------------------------------------------------
 
-    def _record(self, outcome: Outcome, scan_sig: StatSig, row: FileState | None,
-                report: SyncReport) -> None:
+    def _record(self, outcome: Outcome, scan_sig: StatSig, row: FileState | None, report: SyncReport) -> None:
         rel = outcome.path
         source = display_name(rel)
         if row is not None:
@@ -264,10 +279,18 @@ class Syncer:
             # Chunks kept, with a note: what the adapter could not keep or had to guess.
             for warning in outcome.warnings:
                 log.warning("%s: %s", source, warning)
-            group.rows.append(FileState(
-                rel, source, outcome.sig, outcome.hash, self.fingerprint, outcome.ids,
-                recorded_ns=outcome.recorded_ns, error="; ".join(outcome.warnings) or None,
-            ))
+            group.rows.append(
+                FileState(
+                    rel,
+                    source,
+                    outcome.sig,
+                    outcome.hash,
+                    self.fingerprint,
+                    outcome.ids,
+                    recorded_ns=outcome.recorded_ns,
+                    error="; ".join(outcome.warnings) or None,
+                )
+            )
             return
         # A failure keeps the last good chunks; the feed says why.
         sig = outcome.sig or scan_sig
@@ -287,11 +310,20 @@ class Syncer:
         group.entries.append(FeedEntry("error", source, error=f"{outcome.status}: {reason}"))
         if not announced:
             group.entries += [FeedEntry("upsert", source, id=i) for i in old_ids]
-        group.rows.append(FileState(
-            rel, source, sig, outcome.hash or (row.hash if row and same else ""),
-            self.fingerprint, list(old_ids), status=outcome.status, error=reason,
-            failures=failures, recorded_ns=outcome.recorded_ns or time.time_ns(),
-        ))
+        group.rows.append(
+            FileState(
+                rel,
+                source,
+                sig,
+                outcome.hash or (row.hash if row and same else ""),
+                self.fingerprint,
+                list(old_ids),
+                status=outcome.status,
+                error=reason,
+                failures=failures,
+                recorded_ns=outcome.recorded_ns or time.time_ns(),
+            )
+        )
 
     def _delete(self, row: FileState, report: SyncReport) -> None:
         path = self.chunk_path(row.path)
@@ -325,7 +357,8 @@ class Syncer:
         """Delete chunk files no store row accounts for (left by a crash or a lost store)."""
         expected = {self.chunk_path(rel) for rel in known}
         orphans = [
-            Path(e.path) for e in walk_files(self.chunks)
+            Path(e.path)
+            for e in walk_files(self.chunks)
             if e.name.endswith(".jsonl") and Path(e.path) not in expected
         ]
         if not orphans:

@@ -28,8 +28,6 @@ from watchdog.events import FileSystemEvent
 from watchdog.observers import Observer
 from watchdog.observers.polling import PollingObserver
 
-from segment.settings import Settings
-
 from daemon.batching import FULL, Batch, Change, batches
 from daemon.events import (
     OVERFLOW_LOGGER,
@@ -41,7 +39,8 @@ from daemon.events import (
     watch_limit_exceeded,
 )
 from daemon.scope import COOKIE_PREFIX
-from daemon.sync import SourceEmpty, SourceMissing, SyncReport, Syncer
+from daemon.sync import SourceEmpty, SourceMissing, Syncer, SyncReport
+from segment.settings import Settings
 
 log = logging.getLogger(__name__)
 
@@ -49,11 +48,19 @@ RESCAN_S = 600.0
 """A full reconcile runs this often while watching, as a net under any missed event."""
 WRITE_RETRY_S = 5.0
 """After a failed write (disk full, I/O error), the next full reconcile runs this much later."""
+
+
 class WatchLoop:
     """Runs the observer and the batch loop around one `Syncer` (made with `patient=True`)."""
 
-    def __init__(self, syncer: Syncer, *, quiet_s: float = 0.2, rescan_s: float = RESCAN_S,
-                 clock: Callable[[], float] = time.monotonic) -> None:
+    def __init__(
+        self,
+        syncer: Syncer,
+        *,
+        quiet_s: float = 0.2,
+        rescan_s: float = RESCAN_S,
+        clock: Callable[[], float] = time.monotonic,
+    ) -> None:
         self.syncer = syncer
         self.quiet_s = quiet_s
         self.rescan_s = rescan_s
@@ -89,8 +96,13 @@ class WatchLoop:
 
     def _start_observer(self) -> None:
         src = str(self.syncer.src)
-        reason = ("network_fs" if needs_polling(self.syncer.src)
-                  else "watch_limit" if watch_limit_exceeded(self.syncer.src) else "")
+        reason = (
+            "network_fs"
+            if needs_polling(self.syncer.src)
+            else "watch_limit"
+            if watch_limit_exceeded(self.syncer.src)
+            else ""
+        )
         polling = bool(reason)
         observer: Any = PollingObserver(timeout=1.0) if polling else Observer()
         try:
@@ -103,11 +115,14 @@ class WatchLoop:
             observer.schedule(EnqueueHandler(self.events), src, recursive=True)
             observer.start()
         if reason == "network_fs":
-            log.warning("%s is on a network file system (%s): watching by polling", src,
-                        fs_type(self.syncer.src))
+            log.warning(
+                "%s is on a network file system (%s): watching by polling", src, fs_type(self.syncer.src)
+            )
         elif polling:
-            log.warning("watching %s by polling: raise fs.inotify.max_user_watches "
-                        "(sysctl) to get instant updates", src)
+            log.warning(
+                "watching %s by polling: raise fs.inotify.max_user_watches (sysctl) to get instant updates",
+                src,
+            )
         self.observer = observer
         self._set_degraded(reason, force=True)
 
@@ -117,8 +132,9 @@ class WatchLoop:
         """Process batches until `stop()` is true; the batch in progress is always finished."""
         source = QueueSource(self.events, self.syncer.scope)
         max_wait = max(10 * self.quiet_s, 1.0)
-        for batch in batches(source, self.clock, quiet_s=self.quiet_s, max_wait_s=max_wait,
-                             stop=stop, idle=self._supervise):
+        for batch in batches(
+            source, self.clock, quiet_s=self.quiet_s, max_wait_s=max_wait, stop=stop, idle=self._supervise
+        ):
             self.process(batch)
 
     def process(self, batch: Batch) -> None:
@@ -164,8 +180,9 @@ class WatchLoop:
         """Idle-time checks: vanished or returning root, dead observer, periodic rescan."""
         if not self.syncer.src.is_dir():
             if self.degraded != "root_missing":
-                log.error("%s: source folder is missing; paused until it is back (output kept)",
-                          self.syncer.src)
+                log.error(
+                    "%s: source folder is missing; paused until it is back (output kept)", self.syncer.src
+                )
                 self._set_degraded("root_missing")
             return ()
         if self.degraded == "root_missing":
@@ -191,7 +208,7 @@ class WatchLoop:
         try:
             if self.observer is not None:
                 self.observer.stop()
-        except Exception:  # noqa: BLE001 - it is being replaced anyway
+        except Exception:
             pass
         try:
             self._start_observer()
@@ -226,7 +243,7 @@ class WatchLoop:
             names = os.listdir(self.syncer.src)
         except OSError:
             return []
-        return [n[len(COOKIE_PREFIX):] for n in names if n.startswith(COOKIE_PREFIX)]
+        return [n[len(COOKIE_PREFIX) :] for n in names if n.startswith(COOKIE_PREFIX)]
 
     def _release(self, tokens: list[str]) -> None:
         with self._waiters_lock:
@@ -266,8 +283,16 @@ class Watcher:
     the current batch and stops.
     """
 
-    def __init__(self, src: Path, out: Path, settings: Settings | None = None, *, jobs: int = 1,
-                 quiet_ms: int = 200, rescan_s: float = RESCAN_S) -> None:
+    def __init__(
+        self,
+        src: Path,
+        out: Path,
+        settings: Settings | None = None,
+        *,
+        jobs: int = 1,
+        quiet_ms: int = 200,
+        rescan_s: float = RESCAN_S,
+    ) -> None:
         self.src, self.out = Path(src), Path(out)
         self.settings = settings or Settings()
         self.jobs = jobs
@@ -298,7 +323,7 @@ class Watcher:
         assert self.loop is not None
         try:
             self.loop.run(self._stop.is_set)
-        except BaseException as exc:  # noqa: BLE001 - surfaced by sync() and __exit__
+        except BaseException as exc:
             self._error = exc
             log.exception("watch loop stopped")
 

@@ -25,10 +25,9 @@ from dataclasses import dataclass, field
 from multiprocessing.connection import Connection
 from typing import Any
 
+from daemon.store import StatSig
 from segment.errors import SegmentError
 from segment.settings import Settings
-
-from daemon.store import StatSig
 
 log = logging.getLogger(__name__)
 
@@ -116,7 +115,7 @@ def _warm_up(settings: Settings) -> None:
 
         doc = segment.parse_bytes(b"# Warm up\n\nOne sentence. Another one.\n", "warm-up.md")
         list(segment.chunk(doc, settings))
-    except Exception:  # noqa: BLE001 - a broken stack shows up as each file's error instead
+    except Exception:
         pass
 
 
@@ -136,8 +135,9 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
     out = Outcome(task.path, "ok", sig=sig, recorded_ns=recorded, pid=os.getpid())
     try:
         if st0.st_size > settings.max_file_bytes:
-            raise segment.TooLarge(task.source, f"file is {st0.st_size} bytes, over max_file_bytes="
-                                   f"{settings.max_file_bytes}")
+            raise segment.TooLarge(
+                task.source, f"file is {st0.st_size} bytes, over max_file_bytes={settings.max_file_bytes}"
+            )
         with open(task.abspath, "rb") as fh:
             data = fh.read()  # read once: the hash and the parse see the same bytes
         out.hash = content_hash(data)
@@ -165,7 +165,7 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
         out.data, out.ids = b"", []
     except OSError as exc:
         out.status, out.reason = "unreadable", f"cannot read: {exc.strerror or exc}"
-    except Exception as exc:  # noqa: BLE001 - a library bug must not stop the run
+    except Exception as exc:
         out.status, out.reason = "error", f"{type(exc).__name__}: {exc}"
     if out.status == "ok":
         try:
@@ -247,7 +247,9 @@ class WorkerPool:
     def _spawn(self) -> _Worker:
         parent, child = self._ctx.Pipe(duplex=True)
         proc = self._ctx.Process(
-            target=_worker_main, args=(child, self.settings, self.hooks), daemon=True,
+            target=_worker_main,
+            args=(child, self.settings, self.hooks),
+            daemon=True,
             name="docsegment-worker",
         )
         proc.start()
@@ -263,8 +265,11 @@ class WorkerPool:
         worker.conn.close()
         self._workers.remove(worker)
 
-    def map(self, tasks: Iterable[Task], stop: Callable[[], bool] | None = None,
-            ) -> Generator[Outcome, None, None]:
+    def map(
+        self,
+        tasks: Iterable[Task],
+        stop: Callable[[], bool] | None = None,
+    ) -> Generator[Outcome, None, None]:
         """Run tasks, yielding one outcome per task as they finish (in no fixed order).
 
         Once `stop()` is true no new task starts; tasks in progress still finish and the
@@ -283,7 +288,9 @@ class WorkerPool:
                 self._dispatch(pending)
                 busy = [w for w in self._workers if w.task is not None]
                 deadline = min((w.deadline for w in busy), default=time.monotonic() + 1.0)
-                waitables: list[Any] = [w.conn for w in self._workers] + [w.proc.sentinel for w in self._workers]
+                waitables: list[Any] = [w.conn for w in self._workers] + [
+                    w.proc.sentinel for w in self._workers
+                ]
                 ready = multiprocessing.connection.wait(waitables, max(0.0, deadline - time.monotonic()))
                 done = []
                 for worker in list(self._workers):
@@ -301,9 +308,14 @@ class WorkerPool:
                         task = worker.task
                         self._discard(worker, kill=True)
                         self.replaced += 1
-                        log.warning("%s: timeout after %g s; worker killed", task.source, self.settings.timeout_s)
-                        yield Outcome(task.path, "timeout",
-                                      f"parse took longer than timeout_s={self.settings.timeout_s:g}; worker killed")
+                        log.warning(
+                            "%s: timeout after %g s; worker killed", task.source, self.settings.timeout_s
+                        )
+                        yield Outcome(
+                            task.path,
+                            "timeout",
+                            f"parse took longer than timeout_s={self.settings.timeout_s:g}; worker killed",
+                        )
                 busy_now = sum(1 for w in self._workers if w.task is not None)
                 while len(self._workers) < min(self.jobs, len(pending) + busy_now):
                     self._spawn()

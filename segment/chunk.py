@@ -77,8 +77,18 @@ class Chunk:
     def from_dict(cls, data: dict[str, Any]) -> Chunk:
         """Inverse of `to_dict`; unknown keys go to `extra`."""
         fixed = {
-            "id", "source", "format", "seq", "breadcrumb", "text", "tokens", "blocks",
-            "lines", "pages", "anchor", "oversize",
+            "id",
+            "source",
+            "format",
+            "seq",
+            "breadcrumb",
+            "text",
+            "tokens",
+            "blocks",
+            "lines",
+            "pages",
+            "anchor",
+            "oversize",
         }
         return cls(
             id=data["id"],

@@ -98,10 +98,16 @@ def tree_command(file: Path) -> None:
 
 @cli.command("build")
 @click.argument("src", type=click.Path(exists=True, file_okay=False, path_type=Path))
-@click.option("-o", "--out", required=True, type=click.Path(file_okay=False, path_type=Path),
-              help="Output folder (chunks/, changes.jsonl, state.sqlite3).")
-@click.option("--jobs", "-j", type=click.IntRange(min=1), default=1, show_default=True,
-              help="Worker processes.")
+@click.option(
+    "-o",
+    "--out",
+    required=True,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Output folder (chunks/, changes.jsonl, state.sqlite3).",
+)
+@click.option(
+    "--jobs", "-j", type=click.IntRange(min=1), default=1, show_default=True, help="Worker processes."
+)
 @click.option("--full", is_flag=True, help="Re-segment every file, not only what changed.")
 @settings_options
 def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) -> None:
@@ -117,8 +123,13 @@ def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) ->
 @click.argument("src", type=click.Path(exists=True, file_okay=False, path_type=Path))
 @click.option("-o", "--out", required=True, type=click.Path(file_okay=False, path_type=Path))
 @click.option("--jobs", "-j", type=click.IntRange(min=1), default=1, show_default=True)
-@click.option("--quiet-ms", type=click.IntRange(min=0), default=200, show_default=True,
-              help="Quiet period before a batch of edits is processed.")
+@click.option(
+    "--quiet-ms",
+    type=click.IntRange(min=0),
+    default=200,
+    show_default=True,
+    help="Quiet period before a batch of edits is processed.",
+)
 @settings_options
 def watch_command(src: Path, out: Path, jobs: int, quiet_ms: int, **kwargs: Any) -> None:
     """Build, then keep OUT in sync with SRC until stopped (Ctrl-C)."""

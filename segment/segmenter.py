@@ -148,7 +148,11 @@ class Segmenter:
             return crumb
         text = child.heading.text
         # The first heading often repeats the document title: keep it once.
-        if len(crumb) == 1 and title is not None and normalise_text(text).casefold() == normalise_text(title).casefold():
+        if (
+            len(crumb) == 1
+            and title is not None
+            and normalise_text(text).casefold() == normalise_text(title).casefold()
+        ):
             return crumb
         return crumb + [text]
 
@@ -177,7 +181,9 @@ class Segmenter:
 
     # ----- blocks inside one section ---------------------------------------------------------
 
-    def _pack_blocks(self, pieces: list[Piece], crumb: list[str], anchor: str | None, out: list[Draft]) -> None:
+    def _pack_blocks(
+        self, pieces: list[Piece], crumb: list[str], anchor: str | None, out: list[Draft]
+    ) -> None:
         """Greedy packing of a section's own pieces; blocks too big for a chunk are split."""
         key = self._next_key()
         current: list[Piece] = []
@@ -332,7 +338,6 @@ class Segmenter:
                 )
             )
         return chunks
-
 
 
 def segment_document(document: Document, settings: Settings) -> Iterator[Chunk]:

@@ -20,7 +20,7 @@ WINDOW_CHARS = 200_000
 _SPACE = re.compile(r"\s")
 _SENTENCE_END = re.compile(r"[.!?;:\u3002\uff01\uff1f\u0964\u061f]")
 LONG_RUN = 200
-_LONG_RUN = re.compile(r"(\S{%d,})" % LONG_RUN)
+_LONG_RUN = re.compile(rf"(\S{{{LONG_RUN},}})")
 
 
 @lru_cache(maxsize=4)
@@ -78,10 +78,10 @@ def _windows(text: str) -> list[str]:
             # Back up to the last whitespace in the window, if any (else cut hard).
             cut = text.rfind(" ", start + WINDOW_CHARS // 2, end)
             if cut == -1:
-                m = None
-                for m in _SPACE.finditer(text, start + WINDOW_CHARS // 2, end):
+                last = None
+                for last in _SPACE.finditer(text, start + WINDOW_CHARS // 2, end):  # noqa: B007
                     pass
-                cut = m.start() if m else -1
+                cut = last.start() if last else -1
             end = cut + 1 if cut != -1 else end
         parts.append(text[start:end])
         start = end

@@ -87,8 +87,13 @@ class Splitter:
             units = [_Unit(line, _code_line_span(block, i)) for i, line in enumerate(block.lines)]
             return self._pack(units, "\n", code_fence(block), "```", first_budget, budget, block.span)
         if isinstance(block, Quote):
-            units = [_Unit(render_block(b), b.span, lambda room, b=b: self._block_units(b, room)) for b in block.blocks]
-            return self._pack(units, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span)
+            units = [
+                _Unit(render_block(b), b.span, lambda room, b=b: self._block_units(b, room))
+                for b in block.blocks
+            ]
+            return self._pack(
+                units, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span
+            )
         if isinstance(block, DefinitionList):
             units = [
                 _Unit(render_definition(d), d.span, lambda room, d=d: self._definition_units(d, room))
@@ -113,8 +118,10 @@ class Splitter:
                 gap += raw[:lead]
                 start = offset + lead
                 sep = "" if not gap else "\n" if "\n" in gap else " "
-                units.append(_Unit(stripped, _text_span(span, line_starts, start, start + len(stripped)), sep=sep))
-                gap = raw[lead + len(stripped):]
+                units.append(
+                    _Unit(stripped, _text_span(span, line_starts, start, start + len(stripped)), sep=sep)
+                )
+                gap = raw[lead + len(stripped) :]
             else:
                 gap += raw
             offset += len(raw)
@@ -180,7 +187,11 @@ class Splitter:
         """
         # What the prefix and suffix add around a body, joins included (a byte-level BPE counts
         # the newlines too): the cost of a framed one-letter body less that of the letter.
-        frame = self.count(self._join([_Unit("x", span)], joiner, prefix, suffix)) - self.count("x") if prefix or suffix else 0
+        frame = (
+            self.count(self._join([_Unit("x", span)], joiner, prefix, suffix)) - self.count("x")
+            if prefix or suffix
+            else 0
+        )
         parts: list[Part] = []
         current: list[_Unit] = []
         used = frame
@@ -203,8 +214,9 @@ class Splitter:
                     parts.append(part)
                 else:  # a lone unit that went over once framed (rounding): cut it smaller
                     excess = part.tokens - limit
-                    pieces = self._break(current[0].text, max(limit - frame - excess, 1),
-                                         max(budget - frame - excess, 1))
+                    pieces = self._break(
+                        current[0].text, max(limit - frame - excess, 1), max(budget - frame - excess, 1)
+                    )
                     if len(pieces) > 1:
                         queue.extend(reversed([_Unit(p, current[0].span) for p in pieces]))
                     else:

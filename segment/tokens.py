@@ -14,6 +14,7 @@ from typing import Protocol, runtime_checkable
 
 from segment.errors import SettingsError
 
+
 @runtime_checkable
 class TokenCounter(Protocol):
     """Anything that counts the tokens of a text."""

@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 from dataclasses import dataclass, field
 from enum import StrEnum
-from typing import Any, Union
+from typing import Any
 
 
 @dataclass(slots=True, frozen=True)
@@ -164,7 +164,7 @@ class DefinitionList:
     kind: BlockKind = field(default=BlockKind.DEFINITIONS, init=False)
 
 
-Block = Union[Paragraph, ListBlock, Table, Code, Quote, DefinitionList]
+Block = Paragraph | ListBlock | Table | Code | Quote | DefinitionList
 """Any block node."""
 
 

@@ -84,8 +84,30 @@ MARKUP = re.compile(
     re.IGNORECASE | re.MULTILINE,
 )
 BLOCK_TAGS = (
-    "br", "p", "div", "li", "td", "th", "tr", "h1", "h2", "h3", "h4", "h5", "h6", "pre",
-    "blockquote", "table", "ul", "ol", "dt", "dd", "hr", "section", "details", "summary",
+    "br",
+    "p",
+    "div",
+    "li",
+    "td",
+    "th",
+    "tr",
+    "h1",
+    "h2",
+    "h3",
+    "h4",
+    "h5",
+    "h6",
+    "pre",
+    "blockquote",
+    "table",
+    "ul",
+    "ol",
+    "dt",
+    "dd",
+    "hr",
+    "section",
+    "details",
+    "summary",
 )
 
 
@@ -302,7 +324,9 @@ def _check_rows(doc: Document, chunks: list[Chunk], rep: FileReport) -> None:
                     continue
                 cells = _cells(line)
                 if len(cells) != width:
-                    rep.rows.append(f"chunk {c.seq}: row has {len(cells)} cells, header {width}: {line[:80]!r}")
+                    rep.rows.append(
+                        f"chunk {c.seq}: row has {len(cells)} cells, header {width}: {line[:80]!r}"
+                    )
                 found.add(tuple(cells))
     for t in tables:
         for row in [*t.header, *t.rows]:
@@ -352,7 +376,9 @@ def _check_crumbs(doc: Document, chunks: list[Chunk], rep: FileReport) -> None:
                 node = node.children[0]
                 wants.append(crumb_of[id(node)])
             if list(c.breadcrumb) not in wants:
-                rep.crumbs.append(f"chunk {c.seq} lines {x}-{y}: breadcrumb {c.breadcrumb!r}, expected {deepest[2]!r}")
+                rep.crumbs.append(
+                    f"chunk {c.seq} lines {x}-{y}: breadcrumb {c.breadcrumb!r}, expected {deepest[2]!r}"
+                )
 
 
 def _check_words(chunks: list[Chunk], markdown: str, rep: FileReport, seen: Counter[str] | None) -> None:
@@ -403,7 +429,7 @@ def _check_boundaries(
             continue
         # Cut inside a sentence: allowed only when that sentence alone is over budget.
         ends = list(SENTENCE_END_INSIDE.finditer(text))
-        tail = text[ends[-1].end():] if ends else text.split("\n\n")[-1]
+        tail = text[ends[-1].end() :] if ends else text.split("\n\n")[-1]
         nxt = chunks[i + 1].text if i + 1 < len(chunks) else ""
         m = SENTENCE_END_INSIDE.search(nxt + " ")
         head = nxt[: m.end()] if m else nxt.split("\n\n")[0]
@@ -440,7 +466,9 @@ def _sentencizer_boundary(before: str, after: str) -> bool:
     return False
 
 
-def _check_code(doc: Document, chunks: list[Chunk], max_tokens: int, counter: TokenCounter, rep: FileReport) -> None:
+def _check_code(
+    doc: Document, chunks: list[Chunk], max_tokens: int, counter: TokenCounter, rep: FileReport
+) -> None:
     """Every code line of the tree is a whole line of some chunk (indentation aside)."""
     codes = [b for _p, s in doc.walk() for b in all_blocks(s.blocks) if isinstance(b, Code)]
     if not codes:
@@ -456,7 +484,9 @@ def _check_code(doc: Document, chunks: list[Chunk], max_tokens: int, counter: To
             alone = counter.count(f"{fence}\n{line}\n```")
             if line.strip() and line.strip() not in have and alone + ROUNDING <= max_tokens:
                 first = code.span.lines[0] if code.span.lines else 0
-                rep.code.append(f"code line {i + 1} of block at line {first} not whole in any chunk: {line.strip()[:70]!r}")
+                rep.code.append(
+                    f"code line {i + 1} of block at line {first} not whole in any chunk: {line.strip()[:70]!r}"
+                )
 
 
 def _check_code_order(codes: list[Code], chunks: list[Chunk], rep: FileReport) -> None:
@@ -479,7 +509,9 @@ def _check_code_order(codes: list[Code], chunks: list[Chunk], rep: FileReport) -
             nxt = next((i for i in spots if i > cursor), None)
             if nxt is None:
                 first_line = code.span.lines[0] if code.span.lines else 0
-                rep.code.append(f"code block at line {first_line}: {line[:60]!r} comes out before the line above it")
+                rep.code.append(
+                    f"code block at line {first_line}: {line[:60]!r} comes out before the line above it"
+                )
                 break
             cursor = nxt
 
@@ -508,14 +540,18 @@ def _check_lines(chunks: list[Chunk], rep: FileReport) -> None:
         if c.lines[0] > c.lines[1]:
             rep.lines.append(f"chunk {c.seq}: empty line range {c.lines}")
         if prev is not None and prev.lines is not None and c.lines[0] < prev.lines[1]:
-            rep.lines.append(f"chunk {c.seq} lines {list(c.lines)} start before chunk {prev.seq} {list(prev.lines)} ends")
+            rep.lines.append(
+                f"chunk {c.seq} lines {list(c.lines)} start before chunk {prev.seq} {list(prev.lines)} ends"
+            )
         prev = c
 
 
 # ----- one file, many files ----------------------------------------------------------------------
 
 
-def check_file(path: Path, source: str, max_tokens: int, seen_words: Counter[str] | None = None) -> FileReport:
+def check_file(
+    path: Path, source: str, max_tokens: int, seen_words: Counter[str] | None = None
+) -> FileReport:
     """Build one file at one budget with the public API and check the result."""
     settings = Settings(max_tokens=max_tokens)
     try:
@@ -541,8 +577,10 @@ def main(argv: list[str]) -> int:
         reports = [check_file(p, p.relative_to(args.folder).as_posix(), n, seen[p]) for p in files]
         src = sum(r.words_source for r in reports)
         found = sum(r.words_found for r in reports)
-        print(f"max_tokens={n}: {len(files)} files, {sum(r.chunks for r in reports)} chunks, "
-              f"{sum(r.oversize for r in reports)} oversize, errors {sum(r.error is not None for r in reports)}")
+        print(
+            f"max_tokens={n}: {len(files)} files, {sum(r.chunks for r in reports)} chunks, "
+            f"{sum(r.oversize for r in reports)} oversize, errors {sum(r.error is not None for r in reports)}"
+        )
         print(f"  words: {found}/{src} = {found / max(src, 1):.5f}")
         missing: Counter[str] = Counter()
         for r in reports:

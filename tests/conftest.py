@@ -42,7 +42,9 @@ def check_golden(path: Path, actual: str) -> None:
         if not REGEN:
             pytest.fail(f"golden file {path.name} was missing and has been written: review and commit it")
         return
-    assert actual == path.read_text(encoding="utf-8"), f"differs from golden {path.name} (DOCSEGMENT_REGEN=1 rewrites)"
+    assert actual == path.read_text(encoding="utf-8"), (
+        f"differs from golden {path.name} (DOCSEGMENT_REGEN=1 rewrites)"
+    )
 
 
 def pdf_renderer() -> ModuleType:

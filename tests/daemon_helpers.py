@@ -25,8 +25,10 @@ def sections_page(n: int, edited: int | None = None) -> str:
     out = ["# Fleet handbook", ""]
     for i in range(n):
         out += [f"## Procedure {i}", ""]
-        text = (f"Procedure {i} covers step {i} of the hangar routine. The crew signs the sheet "
-                f"after step {i}. Nothing leaves the hangar before the check of step {i}.")
+        text = (
+            f"Procedure {i} covers step {i} of the hangar routine. The crew signs the sheet "
+            f"after step {i}. Nothing leaves the hangar before the check of step {i}."
+        )
         if i == edited:
             text += " A second signature is now required."
         out += [text, ""]
@@ -43,10 +45,7 @@ def write(path: Path, text: str) -> Path:
 def chunk_files(out: Path) -> dict[str, bytes]:
     """OUT/chunks as {relative path: bytes}."""
     root = out / "chunks"
-    return {
-        p.relative_to(root).as_posix(): p.read_bytes()
-        for p in sorted(root.rglob("*")) if p.is_file()
-    }
+    return {p.relative_to(root).as_posix(): p.read_bytes() for p in sorted(root.rglob("*")) if p.is_file()}
 
 
 def current_ids(out: Path) -> dict[str, str]:

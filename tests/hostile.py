@@ -49,8 +49,20 @@ class Hostile:
 # -- PDFs ---------------------------------------------------------------------------------------
 
 
-PDF_TOPICS = ("Battery", "Propeller", "Gimbal", "Firmware", "Landing", "Radio", "Camera", "Compass",
-              "Charger", "Hangar", "Transport", "Storage")
+PDF_TOPICS = (
+    "Battery",
+    "Propeller",
+    "Gimbal",
+    "Firmware",
+    "Landing",
+    "Radio",
+    "Camera",
+    "Compass",
+    "Charger",
+    "Hangar",
+    "Transport",
+    "Storage",
+)
 
 
 @cache
@@ -117,67 +129,174 @@ DEEP = "deepest words here"
 CASES: tuple[Hostile, ...] = (
     # PDFs (RELIABILITY P3, W6)
     *(
-        Hostile(f"cut-{int(s * 100)}.pdf".encode(), lambda s=s: cut_pdf(s), "ok", PDF_FAIL, "",
-                f"PDF cut at {s:.0%}: fails to open, or opens repaired with partial text", frozenset({"pdf", "cut"}))
+        Hostile(
+            f"cut-{int(s * 100)}.pdf".encode(),
+            lambda s=s: cut_pdf(s),
+            "ok",
+            PDF_FAIL,
+            "",
+            f"PDF cut at {s:.0%}: fails to open, or opens repaired with partial text",
+            frozenset({"pdf", "cut"}),
+        )
         for s in (0.05, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6, 0.7, 0.8, 0.9, 0.97)
     ),
     *(
-        Hostile(f"objstm-cut-{int(s * 100)}.pdf".encode(), lambda s=s: objstm_pdf()[: int(len(objstm_pdf()) * s)],
-                "ok", PDF_FAIL | {"no_text"}, "",
-                f"PDF with object streams cut at {s:.0%} (may open with 0 pages)", frozenset({"pdf", "cut"}))
+        Hostile(
+            f"objstm-cut-{int(s * 100)}.pdf".encode(),
+            lambda s=s: objstm_pdf()[: int(len(objstm_pdf()) * s)],
+            "ok",
+            PDF_FAIL | {"no_text"},
+            "",
+            f"PDF with object streams cut at {s:.0%} (may open with 0 pages)",
+            frozenset({"pdf", "cut"}),
+        )
         for s in (0.5, 0.9)
     ),
-    Hostile(b"header-only.pdf", lambda: b"%PDF-1.7\n", "failed", PDF_FAIL, why="a PDF header and nothing else"),
-    Hostile(b"header-garbage.pdf", lambda: b"%PDF-1.4\n" + random_bytes(20_000, 7), "failed",
-            PDF_FAIL | {"no_text"}, why="a PDF header, then random bytes"),
-    Hostile(b"broken-xref.pdf", broken_xref_pdf, "ok", PDF_FAIL, "Storage checklist",
-            "cross-reference table overwritten: repaired", frozenset({"pdf"})),
-    Hostile(b"aes256-user.pdf", lambda: encrypted_pdf("hangar-7"), "failed", frozenset({"encrypted"}),
-            why="AES-256 with a user password", tags=frozenset({"pdf"})),
-    Hostile(b"owner-only.pdf", lambda: encrypted_pdf(""), "ok", frozenset(), "Gimbal checklist",
-            "AES-256 with an owner password only: must read normally", frozenset({"pdf"})),
+    Hostile(
+        b"header-only.pdf", lambda: b"%PDF-1.7\n", "failed", PDF_FAIL, why="a PDF header and nothing else"
+    ),
+    Hostile(
+        b"header-garbage.pdf",
+        lambda: b"%PDF-1.4\n" + random_bytes(20_000, 7),
+        "failed",
+        PDF_FAIL | {"no_text"},
+        why="a PDF header, then random bytes",
+    ),
+    Hostile(
+        b"broken-xref.pdf",
+        broken_xref_pdf,
+        "ok",
+        PDF_FAIL,
+        "Storage checklist",
+        "cross-reference table overwritten: repaired",
+        frozenset({"pdf"}),
+    ),
+    Hostile(
+        b"aes256-user.pdf",
+        lambda: encrypted_pdf("hangar-7"),
+        "failed",
+        frozenset({"encrypted"}),
+        why="AES-256 with a user password",
+        tags=frozenset({"pdf"}),
+    ),
+    Hostile(
+        b"owner-only.pdf",
+        lambda: encrypted_pdf(""),
+        "ok",
+        frozenset(),
+        "Gimbal checklist",
+        "AES-256 with an owner password only: must read normally",
+        frozenset({"pdf"}),
+    ),
     Hostile(b"random-bytes.pdf", lambda: random_bytes(30_000), "failed", PDF_FAIL, why="random bytes"),
-    Hostile(b"html-named.pdf", lambda: b"<html><body><h1>Gate codes</h1><p>Not a PDF.</p></body></html>",
-            "failed", PDF_FAIL, why="HTML bytes named .pdf (MuPDF would sniff and open it)"),
-    Hostile(b"text-named.pdf", lambda: b"# Release notes\n\nPlain text, not a PDF.\n", "failed", PDF_FAIL,
-            why="text named .pdf"),
+    Hostile(
+        b"html-named.pdf",
+        lambda: b"<html><body><h1>Gate codes</h1><p>Not a PDF.</p></body></html>",
+        "failed",
+        PDF_FAIL,
+        why="HTML bytes named .pdf (MuPDF would sniff and open it)",
+    ),
+    Hostile(
+        b"text-named.pdf",
+        lambda: b"# Release notes\n\nPlain text, not a PDF.\n",
+        "failed",
+        PDF_FAIL,
+        why="text named .pdf",
+    ),
     # 0-byte files of each format
     Hostile(b"empty.pdf", lambda: b"", "failed", frozenset({"empty"}), why="0 bytes"),
     Hostile(b"empty.md", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
     Hostile(b"empty.html", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
     # Deep nesting (P6, P7)
-    Hostile(b"deep-divs.html", lambda: b"<div>" * 100_000 + DEEP.encode() + b"</div>" * 100_000, "ok",
-            needle=DEEP, why="100,000 nested divs"),
-    Hostile(b"deep-quotes.md", lambda: ("> " * 10_000 + DEEP + "\n").encode(), "ok", needle=DEEP,
-            why="10,000 nested block quotes"),
-    Hostile(b"deep-list.md", lambda: ("- " * 10_000 + DEEP + "\n").encode(), "ok", needle=DEEP,
-            why="10,000 nested list items"),
+    Hostile(
+        b"deep-divs.html",
+        lambda: b"<div>" * 100_000 + DEEP.encode() + b"</div>" * 100_000,
+        "ok",
+        needle=DEEP,
+        why="100,000 nested divs",
+    ),
+    Hostile(
+        b"deep-quotes.md",
+        lambda: ("> " * 10_000 + DEEP + "\n").encode(),
+        "ok",
+        needle=DEEP,
+        why="10,000 nested block quotes",
+    ),
+    Hostile(
+        b"deep-list.md",
+        lambda: ("- " * 10_000 + DEEP + "\n").encode(),
+        "ok",
+        needle=DEEP,
+        why="10,000 nested list items",
+    ),
     # markdown-it's quadratic-prone runs (P8), 100k characters each
     *(
-        Hostile(f"run-{label}.md".encode(), lambda unit=unit: (unit * (100_000 // len(unit) + 1))[:100_000].encode(),
-                "ok", needle="", why=f"{unit!r} repeated to 100k characters", tags=frozenset({"quadratic"}))
-        for label, unit in (("bracket", "["), ("lt", "<"), ("star-under", "*_"), ("strong-a", "**a"),
-                            ("link-open", "[a](b "))
+        Hostile(
+            f"run-{label}.md".encode(),
+            lambda unit=unit: (unit * (100_000 // len(unit) + 1))[:100_000].encode(),
+            "ok",
+            needle="",
+            why=f"{unit!r} repeated to 100k characters",
+            tags=frozenset({"quadratic"}),
+        )
+        for label, unit in (
+            ("bracket", "["),
+            ("lt", "<"),
+            ("star-under", "*_"),
+            ("strong-a", "**a"),
+            ("link-open", "[a](b "),
+        )
     ),
     # 1.2M-character paragraphs (P9)
-    Hostile(b"para-sentences.md",
-            lambda: (("The drone returns to its dock. " * 40_000)[:1_200_000] + "\n").encode(),
-            "ok", needle="The drone returns to its dock.", why="1.2M characters of short sentences",
-            tags=frozenset({"long"})),
-    Hostile(b"para-words.md", lambda: (("lorem ipsum dolor " * 70_000)[:1_200_000] + "\n").encode(),
-            "ok", needle="lorem ipsum dolor", why="1.2M characters, no punctuation", tags=frozenset({"long"})),
+    Hostile(
+        b"para-sentences.md",
+        lambda: (("The drone returns to its dock. " * 40_000)[:1_200_000] + "\n").encode(),
+        "ok",
+        needle="The drone returns to its dock.",
+        why="1.2M characters of short sentences",
+        tags=frozenset({"long"}),
+    ),
+    Hostile(
+        b"para-words.md",
+        lambda: (("lorem ipsum dolor " * 70_000)[:1_200_000] + "\n").encode(),
+        "ok",
+        needle="lorem ipsum dolor",
+        why="1.2M characters, no punctuation",
+        tags=frozenset({"long"}),
+    ),
     # Encodings and bytes (P10)
-    Hostile(b"cp1252.md", lambda: b"# Crew\xe2 notes\n\nThe pilot\x92s log \x96 kept daily.\n", "ok",
-            needle="pilot\u2019s log", why="CP-1252 bytes in a .md"),
-    Hostile(b"utf16.md", lambda: "\ufeff# Wartung\n\nDie Crew prüft die Akkus.\n".encode("utf-16-le"),
-            "ok", needle="Die Crew prüft die Akkus.", why="UTF-16 LE with a BOM"),
-    Hostile(b"nul-bytes.md", lambda: b"# Header\n\nText\x00with\x00NULs.\n", "failed", frozenset({"corrupt"}),
-            why="NUL bytes: binary content"),
-    Hostile(b"latin1.html",
-            lambda: b"<meta charset=windows-1252><h1>Caf\xe9</h1><p>The pilot\x92s log.</p>", "ok",
-            needle="pilot\u2019s log", why="declared windows-1252 HTML"),
+    Hostile(
+        b"cp1252.md",
+        lambda: b"# Crew\xe2 notes\n\nThe pilot\x92s log \x96 kept daily.\n",
+        "ok",
+        needle="pilot\u2019s log",
+        why="CP-1252 bytes in a .md",
+    ),
+    Hostile(
+        b"utf16.md",
+        lambda: "\ufeff# Wartung\n\nDie Crew prüft die Akkus.\n".encode("utf-16-le"),
+        "ok",
+        needle="Die Crew prüft die Akkus.",
+        why="UTF-16 LE with a BOM",
+    ),
+    Hostile(
+        b"nul-bytes.md",
+        lambda: b"# Header\n\nText\x00with\x00NULs.\n",
+        "failed",
+        frozenset({"corrupt"}),
+        why="NUL bytes: binary content",
+    ),
+    Hostile(
+        b"latin1.html",
+        lambda: b"<meta charset=windows-1252><h1>Caf\xe9</h1><p>The pilot\x92s log.</p>",
+        "ok",
+        needle="pilot\u2019s log",
+        why="declared windows-1252 HTML",
+    ),
     # Odd names (W15)
-    Hostile(b"bad\xffname.md", lambda: good_md("undecodable"), "ok", needle=GOOD_TEXT, why="byte 0xff in the name"),
+    Hostile(
+        b"bad\xffname.md", lambda: good_md("undecodable"), "ok", needle=GOOD_TEXT, why="byte 0xff in the name"
+    ),
     Hostile(b"two\nlines.md", lambda: good_md("newline"), "ok", needle=GOOD_TEXT, why="newline in the name"),
     Hostile("cafe\u0301.md".encode(), lambda: good_md("nfd"), "ok", needle=GOOD_TEXT, why="NFD name"),
     Hostile(b"n" * 252 + b".md", lambda: good_md("long name"), "ok", needle=GOOD_TEXT, why="255-byte name"),
@@ -188,13 +307,17 @@ CASES: tuple[Hostile, ...] = (
 
 def good_md(label: str) -> bytes:
     """A small good Markdown page."""
-    return (f"# Fleet page {label}\n\n{GOOD_TEXT} for {label}. Charge packs to 60 percent.\n\n"
-            f"## Storage\n\nKeep spare packs in the fire cabinet ({label}).\n").encode()
+    return (
+        f"# Fleet page {label}\n\n{GOOD_TEXT} for {label}. Charge packs to 60 percent.\n\n"
+        f"## Storage\n\nKeep spare packs in the fire cabinet ({label}).\n"
+    ).encode()
 
 
 def good_html(label: str) -> bytes:
-    return (f"<html><body><main><h1>Fleet page {label}</h1><p>{GOOD_TEXT} for {label}.</p>"
-            f"<h2>Storage</h2><p>Keep spare packs in the fire cabinet.</p></main></body></html>").encode()
+    return (
+        f"<html><body><main><h1>Fleet page {label}</h1><p>{GOOD_TEXT} for {label}.</p>"
+        f"<h2>Storage</h2><p>Keep spare packs in the fire cabinet.</p></main></body></html>"
+    ).encode()
 
 
 GOOD_FILES: dict[str, Callable[[], bytes]] = {

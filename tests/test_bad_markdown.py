@@ -113,7 +113,11 @@ def test_undecodable_bytes_give_chunks_and_keep_the_rest(tmp_path: Path) -> None
 
 @pytest.mark.timeout(60)
 def test_empty_file_gives_no_chunks(tmp_path: Path) -> None:
-    for name, data in (("empty.md", b""), ("blank.md", b"\n \n\t\n"), ("front-only.md", b"---\ntitle: T\n---\n")):
+    for name, data in (
+        ("empty.md", b""),
+        ("blank.md", b"\n \n\t\n"),
+        ("front-only.md", b"---\ntitle: T\n---\n"),
+    ):
         path = _write(tmp_path, name, data)
         result = _outcome(path)
         if isinstance(result, segment.SegmentError):
@@ -132,13 +136,17 @@ DEEP: dict[str, tuple[bytes, str]] = {
     "quote-10000.md": (("> " * 10_000 + DEEPEST + "\n").encode(), DEEPEST),
     "mixed-10000.md": (("> - " * 5_000 + DEEPEST + "\n").encode(), DEEPEST),
     # One level per line, indented: 1,000 levels keep the file at 1 MB.
-    "indented-list-1000.md": ("".join("  " * i + f"- level {i}\n" for i in range(1_000)).encode(), "level 999"),
+    "indented-list-1000.md": (
+        "".join("  " * i + f"- level {i}\n" for i in range(1_000)).encode(),
+        "level 999",
+    ),
     # Quote markers without spaces, one more level every line up to 10,000.
     "quote-lines-10000.md": (
         "".join(">" * i + f" level {i}\n" for i in range(1, 10_001, 50)).encode(),
         "level 9951",
     ),
 }
+
 
 @pytest.mark.timeout(30)
 @pytest.mark.parametrize("name", sorted(DEEP))

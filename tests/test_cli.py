@@ -13,7 +13,7 @@ from tests.conftest import FIXTURES
 CASE = FIXTURES / "markdown" / "tables.md"
 
 
-def invoke(*args: str) -> "object":
+def invoke(*args: str) -> object:
     return CliRunner().invoke(cli, list(args), catch_exceptions=False)
 
 

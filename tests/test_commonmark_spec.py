@@ -191,7 +191,12 @@ def _tree_tables_in(blocks: list[Block]) -> list[Any]:
     out: list[Any] = []
     for block in blocks:
         if isinstance(block, Table):
-            out.append(([[_norm(c) for c in r.cells] for r in block.header], [[_norm(c) for c in r.cells] for r in block.rows]))
+            out.append(
+                (
+                    [[_norm(c) for c in r.cells] for r in block.header],
+                    [[_norm(c) for c in r.cells] for r in block.rows],
+                )
+            )
         elif isinstance(block, ListBlock):
             out.extend(_tree_tables_in([b for item in block.items for b in item.blocks]))
         elif isinstance(block, Quote):
@@ -237,7 +242,9 @@ def _compare(example: dict[str, Any]) -> None:
     got = tree_structure(example["markdown"])
     where = f"example {example['example']} ({example['section']}):\nmarkdown: {example['markdown']!r}\n"
     for key in ("headings", "lists", "tables"):
-        assert got[key] == want[key], f"{key} differ for {where}expected: {want[key]!r}\nour tree: {got[key]!r}"
+        assert got[key] == want[key], (
+            f"{key} differ for {where}expected: {want[key]!r}\nour tree: {got[key]!r}"
+        )
     # A heading inside a quote or list item cannot open a section without breaking its container:
     # our documented choice keeps it there as a paragraph of the same text.
     assert _is_subsequence(want["nested_headings"], got["container_paragraphs"]), (
@@ -259,7 +266,9 @@ def _params(examples: list[dict[str, Any]], skipped: dict[int, str], bugs: dict[
             marks.append(pytest.mark.skip(reason=skipped[n]))
         elif n in bugs:
             marks.append(pytest.mark.xfail(reason=bugs[n], strict=True))
-        out.append(pytest.param(e, id=f"{n}-{re.sub(r'[^a-z]+', '-', e['section'].lower()).strip('-')}", marks=marks))
+        out.append(
+            pytest.param(e, id=f"{n}-{re.sub(r'[^a-z]+', '-', e['section'].lower()).strip('-')}", marks=marks)
+        )
     return out
 
 
@@ -326,7 +335,9 @@ KNOWN_CODE_BUGS: dict[int, str] = {}
 def test_commonmark_example_code_blocks(example: dict[str, Any]) -> None:
     want = _html_code_blocks(example["html"])
     got = _tree_code_blocks(example["markdown"])
-    assert got == want, f"example {example['example']}: {example['markdown']!r}\nexpected {want!r}\nour tree {got!r}"
+    assert got == want, (
+        f"example {example['example']}: {example['markdown']!r}\nexpected {want!r}\nour tree {got!r}"
+    )
 
 
 # ----- block quotes: count and nesting ---------------------------------------------------------
@@ -368,7 +379,9 @@ def test_commonmark_example_block_quotes(example: dict[str, Any]) -> None:
     want = _html_quotes_in(_fragment(example["html"]))
     doc = segment.parse_bytes(example["markdown"].encode("utf-8"), "example.md")
     got = _tree_quotes_in(_tree_blocks(doc))
-    assert got == want, f"example {example['example']}: {example['markdown']!r}\nexpected {want!r}\nour tree {got!r}"
+    assert got == want, (
+        f"example {example['example']}: {example['markdown']!r}\nexpected {want!r}\nour tree {got!r}"
+    )
 
 
 def test_skip_lists_stay_short() -> None:
@@ -377,4 +390,6 @@ def test_skip_lists_stay_short() -> None:
     differing = len(SKIPPED_COMMONMARK) + len(SKIPPED_GFM_TABLES) + len(KNOWN_BUGS)
     assert differing / relevant < 0.08, f"{differing} of {relevant} relevant examples differ"
     numbers = {e["example"] for e in COMMONMARK}
-    assert set(SKIPPED_COMMONMARK) | set(KNOWN_BUGS) <= numbers, "a skip names an example that has no structure"
+    assert set(SKIPPED_COMMONMARK) | set(KNOWN_BUGS) <= numbers, (
+        "a skip names an example that has no structure"
+    )

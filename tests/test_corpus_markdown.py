@@ -49,7 +49,9 @@ def _demo_case(name: str, max_tokens: int = 128) -> tuple[segment.Document, list
     return doc, chunks, path.read_text(encoding="utf-8")
 
 
-def _run(doc: segment.Document, chunks: list[segment.Chunk], md: str, max_tokens: int = 128) -> checker.FileReport:
+def _run(
+    doc: segment.Document, chunks: list[segment.Chunk], md: str, max_tokens: int = 128
+) -> checker.FileReport:
     return checker.check_chunks(doc, chunks, md, max_tokens, counter_for(None))
 
 
@@ -90,9 +92,7 @@ def test_word_split_parts_point_at_their_own_lines(tmp_path: Path) -> None:
 
 # F12 (fixed): the last sentence sent back to the queue by a part closing over budget was lost.
 def test_no_sentence_is_lost_from_a_paragraph_with_a_typographic_apostrophe(tmp_path: Path) -> None:
-    ascii_sentence = (
-        "When the number of nodes is low and the number of pods is high, sidecars might make more sense for you."
-    )
+    ascii_sentence = "When the number of nodes is low and the number of pods is high, sidecars might make more sense for you."
     last = "You\u2019ll get better load balancing."
     path = tmp_path / "mixed.md"
     path.write_text(" ".join([ascii_sentence] * 4 + [last]) + "\n", encoding="utf-8")
@@ -183,7 +183,9 @@ def test_checker_notices_an_over_budget_chunk_and_a_false_count() -> None:
 
 def test_checker_notices_a_cut_inside_a_short_sentence() -> None:
     doc, chunks, md = _demo_case("guides/getting-started.md")
-    i = next(c.seq for c in chunks if "The pin\nposition matters" in c.text or "The pin position matters" in c.text)
+    i = next(
+        c.seq for c in chunks if "The pin\nposition matters" in c.text or "The pin position matters" in c.text
+    )
     text = chunks[i].text
     at = text.index("matters: approach")
     damaged = list(chunks)

@@ -18,8 +18,8 @@ from watchdog.events import (
 )
 
 from daemon.batching import FULL, Batch, Change, batches
-from daemon.scope import Scope
 from daemon.events import changes_of
+from daemon.scope import Scope
 from segment.settings import Settings
 
 
@@ -47,13 +47,17 @@ class Script:
         return None
 
 
-def run(events: list[tuple[float, Sequence[Change]]], *, quiet: float = 0.2, max_wait: float = 2.0,
-        until: float = 10.0) -> list[tuple[float, Batch]]:
+def run(
+    events: list[tuple[float, Sequence[Change]]],
+    *,
+    quiet: float = 0.2,
+    max_wait: float = 2.0,
+    until: float = 10.0,
+) -> list[tuple[float, Batch]]:
     clock = Clock()
     source = Script(clock, events)
     out = []
-    for batch in batches(source, clock, quiet_s=quiet, max_wait_s=max_wait,
-                         stop=lambda: clock.now >= until):
+    for batch in batches(source, clock, quiet_s=quiet, max_wait_s=max_wait, stop=lambda: clock.now >= until):
         out.append((round(clock.now, 3), batch))
     return out
 
@@ -90,8 +94,14 @@ def test_stop_flushes_what_is_pending_at_once() -> None:
 
 
 def test_a_rescanned_folder_absorbs_files_below_it() -> None:
-    got = run([(1.0, f("docs/a.md")), (1.0, [Change("folder", "docs")]), (1.1, f("other.md")),
-               (1.1, [Change("cookie", "tok")])])
+    got = run(
+        [
+            (1.0, f("docs/a.md")),
+            (1.0, [Change("folder", "docs")]),
+            (1.1, f("other.md")),
+            (1.1, [Change("cookie", "tok")]),
+        ]
+    )
     batch = got[0][1]
     assert batch.files == ["other.md"] and batch.folders == ["docs"]
     assert not batch.full and batch.cookies == ["tok"]
@@ -111,8 +121,17 @@ def test_idle_supervision_runs_between_batches_and_its_requests_are_batched() ->
         calls.append(clock.now)
         return [FULL] if len(calls) == 3 else []
 
-    got = list(batches(Script(clock, []), clock, quiet_s=0.2, max_wait_s=2.0,
-                       stop=lambda: clock.now >= 3.0, idle=idle, idle_s=0.5))
+    got = list(
+        batches(
+            Script(clock, []),
+            clock,
+            quiet_s=0.2,
+            max_wait_s=2.0,
+            stop=lambda: clock.now >= 3.0,
+            idle=idle,
+            idle_s=0.5,
+        )
+    )
     assert len(calls) >= 3
     assert [b.full for b in got] == [True]
 
@@ -138,8 +157,17 @@ def test_a_move_is_routed_by_both_paths_so_an_atomic_save_onto_a_page_is_seen(tm
 def test_editor_litter_our_output_and_unsupported_files_give_no_hints(tmp_path: Path) -> None:
     s = scope(tmp_path)
     src = str(tmp_path / "src")
-    for name in ("4913", "doc.md~", ".doc.md.swp", ".#doc.md", ".goutputstream-AB12", "x.tmp",
-                 "_out/chunks/doc.md.jsonl", "_out/state.sqlite3", "notes.txt"):
+    for name in (
+        "4913",
+        "doc.md~",
+        ".doc.md.swp",
+        ".#doc.md",
+        ".goutputstream-AB12",
+        "x.tmp",
+        "_out/chunks/doc.md.jsonl",
+        "_out/state.sqlite3",
+        "notes.txt",
+    ):
         assert changes_of(FileCreatedEvent(f"{src}/{name}"), s) == [], name
     assert changes_of(FileOpenedEvent(f"{src}/doc.md"), s) == []
     assert changes_of(DirModifiedEvent(src), s) == []
@@ -148,12 +176,18 @@ def test_editor_litter_our_output_and_unsupported_files_give_no_hints(tmp_path: 
 def test_content_events_and_folder_events_map_to_file_and_folder_hints(tmp_path: Path) -> None:
     s = scope(tmp_path)
     src = str(tmp_path / "src")
-    for event in (FileCreatedEvent(f"{src}/a.md"), FileModifiedEvent(f"{src}/a.md"),
-                  FileClosedEvent(f"{src}/a.md"), FileDeletedEvent(f"{src}/a.md")):
+    for event in (
+        FileCreatedEvent(f"{src}/a.md"),
+        FileModifiedEvent(f"{src}/a.md"),
+        FileClosedEvent(f"{src}/a.md"),
+        FileDeletedEvent(f"{src}/a.md"),
+    ):
         assert changes_of(event, s) == f("a.md")
     assert changes_of(DirCreatedEvent(f"{src}/guides"), s) == [Change("folder", "guides")]
     assert changes_of(DirMovedEvent(f"{src}/a", f"{src}/b/c"), s) == [
-        Change("folder", "a"), Change("folder", "b/c")]
+        Change("folder", "a"),
+        Change("folder", "b/c"),
+    ]
     assert changes_of(FileCreatedEvent(f"{src}/.docsegment-cookie-abc"), s) == [Change("cookie", "abc")]
     assert changes_of(FileCreatedEvent(str(tmp_path / "elsewhere.md")), s) == []
 

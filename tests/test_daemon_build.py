@@ -44,7 +44,8 @@ def test_first_build_writes_one_chunk_file_per_page_and_announces_every_id(src: 
 
 
 def test_a_second_build_of_an_unchanged_tree_re_segments_nothing_and_says_so(
-        src: Path, tmp_path: Path, caplog: pytest.LogCaptureFixture) -> None:
+    src: Path, tmp_path: Path, caplog: pytest.LogCaptureFixture
+) -> None:
     out = tmp_path / "out"
     assert run_build(src, out, Settings()) == 0
     before, seq = chunk_files(out), read_status(out).last_seq  # type: ignore[union-attr]
@@ -122,7 +123,8 @@ def _records(out: Path, source: str) -> dict[str, dict[str, object]]:
 
 
 def test_a_failing_file_keeps_its_last_good_chunks_and_gets_an_error_entry(
-        tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     src, out = tmp_path / "docs", tmp_path / "out"
     settings = Settings(max_file_bytes=4000)
     write(src / "ok.md", page("Geofences"))
@@ -183,7 +185,8 @@ def test_include_patterns_limit_the_tree(src: Path, tmp_path: Path) -> None:
 
 
 def test_a_second_writer_is_refused_with_a_clear_message(
-        src: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    src: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     out = tmp_path / "out"
     with Syncer(src, out, Settings()):
         with pytest.raises(OutputBusy, match="another docsegment build or watch"):
@@ -192,7 +195,9 @@ def test_a_second_writer_is_refused_with_a_clear_message(
     assert f"pid {os.getpid()}" in capsys.readouterr().err
 
 
-def test_a_corrupt_store_is_rebuilt_by_reconcile_and_the_feed_stays_consistent(src: Path, tmp_path: Path) -> None:
+def test_a_corrupt_store_is_rebuilt_by_reconcile_and_the_feed_stays_consistent(
+    src: Path, tmp_path: Path
+) -> None:
     out, fresh = tmp_path / "out", tmp_path / "fresh"
     reconcile(src, out)
     (src / "area2" / "page2.md").unlink()
@@ -205,7 +210,9 @@ def test_a_corrupt_store_is_rebuilt_by_reconcile_and_the_feed_stays_consistent(s
     assert read_status(out).counters["rebuilt_state"] == 1  # type: ignore[union-attr]
 
 
-def test_status_prints_counts_failures_and_seq(src: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+def test_status_prints_counts_failures_and_seq(
+    src: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     out = tmp_path / "out"
     assert run_status(out) == 1
     assert "no docsegment state" in capsys.readouterr().err
@@ -239,7 +246,9 @@ def test_odd_file_names_round_trip_and_every_feed_line_is_strict_utf8(tmp_path: 
     assert_feed_matches(out)
 
 
-def test_a_stop_request_commits_what_is_done_and_the_next_pass_does_the_rest(src: Path, tmp_path: Path) -> None:
+def test_a_stop_request_commits_what_is_done_and_the_next_pass_does_the_rest(
+    src: Path, tmp_path: Path
+) -> None:
     out = tmp_path / "out"
     with Syncer(src, out, Settings()) as syncer:
         seen: list[int] = []
@@ -252,7 +261,8 @@ def test_a_stop_request_commits_what_is_done_and_the_next_pass_does_the_rest(src
 
 
 def test_a_failed_fsync_commits_nothing_keeps_old_chunks_and_the_next_build_converges(
-        src: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]) -> None:
+    src: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
+) -> None:
     # RELIABILITY S3: never retry a failed fsync and mark the output committed.
     import errno
 
@@ -281,7 +291,8 @@ def test_a_failed_fsync_commits_nothing_keeps_old_chunks_and_the_next_build_conv
 
 
 def test_a_feed_write_that_fails_halfway_is_undone_without_a_restart(
-        src: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    src: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # RELIABILITY S4 on the feed: half an append reached the disk, then the disk filled up.
     import errno
 

@@ -29,8 +29,15 @@ from tests.daemon_helpers import (
     write,
 )
 
-CRASH_POINTS = ["after_tmp_write", "after_replace", "mid_batch", "before_feed", "mid_feed_write",
-                "before_commit", "after_commit"]
+CRASH_POINTS = [
+    "after_tmp_write",
+    "after_replace",
+    "mid_batch",
+    "before_feed",
+    "mid_feed_write",
+    "before_commit",
+    "after_commit",
+]
 
 
 def build(src: Path, out: Path, **env: str) -> subprocess.Popen[bytes]:
@@ -38,7 +45,9 @@ def build(src: Path, out: Path, **env: str) -> subprocess.Popen[bytes]:
     environ.update({"DOCSEGMENT_GROUP_FILES": "7", **env})
     return subprocess.Popen(
         [sys.executable, "-m", "segment", "build", str(src), "-o", str(out)],
-        env=environ, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE,
+        env=environ,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
     )
 
 
@@ -93,8 +102,11 @@ def test_a_dozen_random_sigkills_during_builds_always_converge(tmp_path: Path) -
         extra = rng.uniform(0.0, 0.4)  # a random moment of the build (the point of the test)
         if step % 2:  # odd steps: first wait until the build has committed part of its work
             deadline = time.monotonic() + 30
-            while proc.poll() is None and time.monotonic() < deadline and not (
-                    feed_file.exists() and feed_file.stat().st_size > before):
+            while (
+                proc.poll() is None
+                and time.monotonic() < deadline
+                and not (feed_file.exists() and feed_file.stat().st_size > before)
+            ):
                 time.sleep(0.002)
             extra /= 20
         time.sleep(extra)

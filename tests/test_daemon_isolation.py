@@ -23,7 +23,9 @@ def hooks(monkeypatch: pytest.MonkeyPatch) -> None:
     monkeypatch.setenv(HOOKS_ENV, "1")
 
 
-def test_crashing_hanging_and_greedy_parses_get_a_status_and_good_files_are_unaffected(tmp_path: Path) -> None:
+def test_crashing_hanging_and_greedy_parses_get_a_status_and_good_files_are_unaffected(
+    tmp_path: Path,
+) -> None:
     src, out = tmp_path / "docs", tmp_path / "out"
     good = [f"good{i}.md" for i in range(5)]
     for name in good:
@@ -73,7 +75,9 @@ def test_a_worker_outlives_many_files_and_is_replaced_after_a_crash(tmp_path: Pa
     assert again[0].status == "ok"
 
 
-def test_a_file_changed_during_its_parse_is_reported_as_changed(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+def test_a_file_changed_during_its_parse_is_reported_as_changed(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # RELIABILITY W6: re-stat after the parse; a result for bytes that moved is discarded.
     path = write(tmp_path / "live.md", page("Flight logs"))
     import segment

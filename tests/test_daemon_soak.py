@@ -40,13 +40,31 @@ class Driver:
     def text(self) -> str:
         self.n += 1
         topic = self.rng.choice(TOPICS)
-        paras = [f"{topic} note {self.n}. Step {i} is checked by the crew." for i in range(self.rng.randint(1, 4))]
+        paras = [
+            f"{topic} note {self.n}. Step {i} is checked by the crew." for i in range(self.rng.randint(1, 4))
+        ]
         return page(f"{topic} {self.n}", *paras)
 
     def step(self) -> None:
         rng, files = self.rng, self.files()
-        op = rng.choice(["create", "create", "edit", "append", "atomic", "vim", "rename", "delete",
-                         "touch", "same_size", "mkdir_move", "move_out", "move_in", "rmtree"])
+        op = rng.choice(
+            [
+                "create",
+                "create",
+                "edit",
+                "append",
+                "atomic",
+                "vim",
+                "rename",
+                "delete",
+                "touch",
+                "same_size",
+                "mkdir_move",
+                "move_out",
+                "move_in",
+                "rmtree",
+            ]
+        )
         if not files or op == "create":
             folder = rng.choice([self.root, *self.folders()])
             write(folder / f"n{self.n}.md", self.text())

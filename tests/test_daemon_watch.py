@@ -54,9 +54,12 @@ def test_sync_reflects_every_write_made_before_it(watcher: Watcher, docs: Path, 
     assert sum(1 for name in chunk_files(tmp_path / "out") if name.startswith("bulk/")) == 100
 
 
-@pytest.mark.parametrize("temp", ["doc.md.tmp123", ".doc.md.swp", ".goutputstream-AB12", "doc.md~", ".#doc.md"])
+@pytest.mark.parametrize(
+    "temp", ["doc.md.tmp123", ".doc.md.swp", ".goutputstream-AB12", "doc.md~", ".#doc.md"]
+)
 def test_an_atomic_save_through_a_temp_file_is_one_parse_of_the_page(
-        watcher: Watcher, docs: Path, tmp_path: Path, temp: str) -> None:
+    watcher: Watcher, docs: Path, tmp_path: Path, temp: str
+) -> None:
     # RELIABILITY W3: the only event for the page is moved(src=temp, dest=page).
     write(docs / "doc.md", page("Battery care", "Charge to 60 percent for storage."))
     watcher.sync(10)
@@ -69,7 +72,9 @@ def test_an_atomic_save_through_a_temp_file_is_one_parse_of_the_page(
     assert not any(name.startswith((".", "doc.md~")) for name in chunk_files(tmp_path / "out"))
 
 
-def test_a_vim_style_save_of_unchanged_text_announces_nothing(watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+def test_a_vim_style_save_of_unchanged_text_announces_nothing(
+    watcher: Watcher, docs: Path, tmp_path: Path
+) -> None:
     # RELIABILITY W4: 4913 probe, rename to a backup, new file, backup removed.
     text = page("Flight logs", "Export the log after each flight.")
     write(docs / "doc.md", text)
@@ -86,7 +91,8 @@ def test_a_vim_style_save_of_unchanged_text_announces_nothing(watcher: Watcher, 
 
 
 def test_repeated_saves_are_coalesced_and_identical_bytes_parse_nothing(
-        watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    watcher: Watcher, docs: Path, tmp_path: Path
+) -> None:
     # RELIABILITY W5: identical rewrites: no new chunk ids; rapid versions: the last one wins.
     target = docs / "area0" / "page0.md"
     before = chunk_files(tmp_path / "out")
@@ -105,7 +111,8 @@ def test_repeated_saves_are_coalesced_and_identical_bytes_parse_nothing(
 
 
 def test_folder_trees_made_copied_moved_and_removed_converge(
-        watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    watcher: Watcher, docs: Path, tmp_path: Path
+) -> None:
     # RELIABILITY W8: mkdir -p + files, copytree, move in from outside, move within, move out.
     deep = docs / "a" / "b" / "c" / "d"
     deep.mkdir(parents=True)
@@ -124,7 +131,8 @@ def test_folder_trees_made_copied_moved_and_removed_converge(
 
 
 def test_a_dead_observer_thread_is_restarted_and_nothing_is_missed(
-        watcher: Watcher, docs: Path, tmp_path: Path) -> None:
+    watcher: Watcher, docs: Path, tmp_path: Path
+) -> None:
     # RELIABILITY W10: detected by the supervisor, restarted, then a full reconcile.
     assert watcher.loop is not None
     watcher.loop.observer.stop()
@@ -147,7 +155,8 @@ def test_a_queue_overflow_leads_to_a_full_reconcile(watcher: Watcher, docs: Path
     write(docs / "lost.md", page("Battery care", "This event never arrives."))
     (docs / "area0" / "page0.md").unlink()
     logging.getLogger("watchdog.observers.inotify_c").warning(
-        "Inotify queue overflowed; filesystem events were lost")
+        "Inotify queue overflowed; filesystem events were lost"
+    )
     watcher.loop.observer.schedule(EnqueueHandler(watcher.loop.events), str(docs), recursive=True)
     watcher.sync(10)
     assert "lost.md.jsonl" in chunk_files(tmp_path / "out")
@@ -176,7 +185,10 @@ def start_watch(src: Path, out: Path, **env: str) -> subprocess.Popen[str]:
     environ.update(env)
     return subprocess.Popen(
         [sys.executable, "-m", "segment", "watch", str(src), "-o", str(out), "--quiet-ms", "50"],
-        env=environ, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
+        env=environ,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        text=True,
     )
 
 
@@ -195,9 +207,9 @@ def wait_for_line(proc: subprocess.Popen[str], needle: str, timeout: float = 30.
     raise AssertionError(f"{needle!r} not seen in: {''.join(seen)}")
 
 
-
-
-def test_sigint_finishes_the_batch_and_exits_0_and_a_second_watcher_is_refused(docs: Path, tmp_path: Path) -> None:
+def test_sigint_finishes_the_batch_and_exits_0_and_a_second_watcher_is_refused(
+    docs: Path, tmp_path: Path
+) -> None:
     out = tmp_path / "out"
     proc = start_watch(docs, out)
     try:
@@ -244,7 +256,7 @@ def _children_busy(pid: int) -> bool:
             text = stat.read_text()
         except OSError:
             continue
-        fields = text[text.rindex(")") + 2:].split()  # state, ppid, ... after "pid (comm)"
+        fields = text[text.rindex(")") + 2 :].split()  # state, ppid, ... after "pid (comm)"
         kids.setdefault(int(fields[1]), []).append((fields[0], int(stat.parent.name)))
     stack, running = [pid], False
     while stack:
@@ -272,7 +284,8 @@ def test_a_vanished_source_folder_pauses_the_watcher_and_keeps_the_output(docs: 
 
 
 def test_a_write_error_while_watching_is_retried_by_a_full_reconcile(
-        watcher: Watcher, docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    watcher: Watcher, docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # RELIABILITY S4: ENOSPC while writing: old output kept, state `write_error`, then recovery.
     import errno
 
@@ -297,7 +310,8 @@ def test_a_write_error_while_watching_is_retried_by_a_full_reconcile(
 
 
 def test_too_many_folders_for_inotify_fall_back_to_polling_and_say_so(
-        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # RELIABILITY W2, portable variant: the watch budget check says "too many folders".
     import daemon.watch
 
@@ -310,10 +324,13 @@ def test_too_many_folders_for_inotify_fall_back_to_polling_and_say_so(
         assert "polled.md.jsonl" in chunk_files(out)
 
 
-def test_a_network_file_system_is_watched_by_polling(docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+def test_a_network_file_system_is_watched_by_polling(
+    docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # RELIABILITY W12: inotify does not see other hosts' writes on NFS/CIFS; poll instead.
-    import daemon.events
     from watchdog.observers.polling import PollingObserver
+
+    import daemon.events
 
     assert daemon.events.fs_type(tmp_path) != ""  # read from /proc/self/mountinfo
     monkeypatch.setattr(daemon.events, "fs_type", lambda path: "nfs4")

@@ -15,11 +15,18 @@ def test_a_file_diff_deletes_vanished_ids_upserts_new_ones_and_skips_kept_ones()
 
 def test_entries_have_exactly_the_documented_keys_in_order(tmp_path: Path) -> None:
     feed = Feed(tmp_path)
-    feed.append([FeedEntry("upsert", "a.md", id="x"), FeedEntry("delete", "a.md", id="y"),
-                 FeedEntry("error", "b.md", error="timeout: parse took too long")])
+    feed.append(
+        [
+            FeedEntry("upsert", "a.md", id="x"),
+            FeedEntry("delete", "a.md", id="y"),
+            FeedEntry("error", "b.md", error="timeout: parse took too long"),
+        ]
+    )
     lines = (tmp_path / "changes.jsonl").read_text().splitlines()
     assert [list(json.loads(line)) for line in lines] == [
-        ["seq", "op", "id", "source"], ["seq", "op", "id", "source"], ["seq", "op", "source", "error"],
+        ["seq", "op", "id", "source"],
+        ["seq", "op", "id", "source"],
+        ["seq", "op", "source", "error"],
     ]
     assert [json.loads(line)["seq"] for line in lines] == [1, 2, 3]
 
@@ -46,11 +53,15 @@ def test_a_torn_last_line_is_cut_off_at_open(tmp_path: Path) -> None:
 
 
 def test_replay_applies_upserts_and_deletes_as_set_operations(tmp_path: Path) -> None:
-    Feed(tmp_path).append([
-        FeedEntry("upsert", "a.md", id="x"), FeedEntry("upsert", "a.md", id="y"),
-        FeedEntry("delete", "a.md", id="x"), FeedEntry("error", "a.md", error="corrupt: bad"),
-        FeedEntry("upsert", "a.md", id="y"),  # a repeat after a crash changes nothing
-    ])
+    Feed(tmp_path).append(
+        [
+            FeedEntry("upsert", "a.md", id="x"),
+            FeedEntry("upsert", "a.md", id="y"),
+            FeedEntry("delete", "a.md", id="x"),
+            FeedEntry("error", "a.md", error="corrupt: bad"),
+            FeedEntry("upsert", "a.md", id="y"),  # a repeat after a crash changes nothing
+        ]
+    )
     assert replay(tmp_path) == {"y": "a.md"}
     assert [e["seq"] for e in read_feed(tmp_path, after=3)] == [4, 5]
 
@@ -61,10 +72,18 @@ def test_entries_written_past_the_last_commit_are_undone_at_restart(tmp_path: Pa
     feed = Feed(tmp_path)
     feed.append([FeedEntry("upsert", "a.md", id="old")])  # committed: store says a.md -> [old]
     # A crash between the feed append and the store commit left an edit's entries behind:
-    feed.append([FeedEntry("delete", "a.md", id="old"), FeedEntry("upsert", "a.md", id="new"),
-                 FeedEntry("upsert", "b.md", id="b1")])
+    feed.append(
+        [
+            FeedEntry("delete", "a.md", id="old"),
+            FeedEntry("upsert", "a.md", id="new"),
+            FeedEntry("upsert", "b.md", id="b1"),
+        ]
+    )
     undo = compensation(tmp_path, committed_seq=1, committed={"a.md": ["old"]})
     assert sorted((e.op, e.source, e.id) for e in undo) == [
-        ("delete", "a.md", "new"), ("delete", "b.md", "b1"), ("upsert", "a.md", "old")]
+        ("delete", "a.md", "new"),
+        ("delete", "b.md", "b1"),
+        ("upsert", "a.md", "old"),
+    ]
     feed.append(undo)
     assert replay(tmp_path) == {"old": "a.md"}  # the feed's view equals the store's again

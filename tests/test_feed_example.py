@@ -9,6 +9,7 @@ from pathlib import Path
 from daemon import reconcile
 from tests.daemon_helpers import current_ids, page, write
 
+
 # --- README example (keep <= 30 lines) -------------------------------------------------------
 def apply_feed(db: sqlite3.Connection, out: Path) -> int:
     """Apply feed entries newer than the last seq seen to a `chunk` table; return that seq."""
@@ -36,6 +37,8 @@ def apply_feed(db: sqlite3.Connection, out: Path) -> int:
     db.execute("INSERT INTO seen VALUES (?)", (last,))
     db.commit()
     return last
+
+
 # --- end of README example -------------------------------------------------------------------
 
 

@@ -48,10 +48,17 @@ def records(out: Path) -> list[dict[str, Any]]:
     return [json.loads(line) for data in chunk_files(out).values() for line in data.splitlines()]
 
 
-def run(cmd: list[str], prefix: list[str] | None = None, timeout: float = BUILD_TIMEOUT) -> subprocess.CompletedProcess[str]:
+def run(
+    cmd: list[str], prefix: list[str] | None = None, timeout: float = BUILD_TIMEOUT
+) -> subprocess.CompletedProcess[str]:
     environ = {k: v for k, v in os.environ.items() if not k.startswith("DOCSEGMENT_")}
-    return subprocess.run([*(prefix or []), sys.executable, "-m", "segment", *cmd], env=environ,
-                          capture_output=True, text=True, timeout=timeout)
+    return subprocess.run(
+        [*(prefix or []), sys.executable, "-m", "segment", *cmd],
+        env=environ,
+        capture_output=True,
+        text=True,
+        timeout=timeout,
+    )
 
 
 @pytest.fixture(scope="module")
@@ -71,7 +78,9 @@ def built(tmp_path_factory: pytest.TempPathFactory) -> Built:
     done = run(["build", str(src), "-o", str(out), "--jobs", "2"], prefix)
     status = run(["status", str(out), "--json"])
     assert status.returncode == 0, status.stderr
-    return Built(src, out, done.returncode, done.stderr, json.loads(status.stdout), cases, good, links, locked)
+    return Built(
+        src, out, done.returncode, done.stderr, json.loads(status.stdout), cases, good, links, locked
+    )
 
 
 def failed_cases(built: Built) -> dict[str, hostile.Hostile]:
@@ -139,13 +148,21 @@ def test_nothing_outside_the_root_is_read_and_output_stays_inside_out(built: Bui
     for dirpath, _, names in os.walk(os.fsencode(built.out / "chunks")):
         for name in names:
             assert Path(os.fsdecode(os.path.join(dirpath, name))).resolve().is_relative_to(root)
-    assert set(os.listdir(built.out)) <= {".lock", "changes.jsonl", "chunks", "state.sqlite3",
-                                          "state.sqlite3-shm", "state.sqlite3-wal"}
+    assert set(os.listdir(built.out)) <= {
+        ".lock",
+        "changes.jsonl",
+        "chunks",
+        "state.sqlite3",
+        "state.sqlite3-shm",
+        "state.sqlite3-wal",
+    }
     assert sorted(os.listdir(built.src.parent)) == ["docs", "out", "outside"]
 
 
 @pytest.mark.timeout(BUILD_TIMEOUT + 60)
-def test_unchanged_rebuilds_parse_no_bad_file_again_and_a_transient_failure_is_quarantined(built: Built) -> None:
+def test_unchanged_rebuilds_parse_no_bad_file_again_and_a_transient_failure_is_quarantined(
+    built: Built,
+) -> None:
     # Permanent failures (corrupt, encrypted, empty) are not retried until the file changes;
     # a transient one (unreadable) is retried until it failed 3 times, then quarantined.
     prefix = hostile.drop_capabilities_prefix()
@@ -198,7 +215,9 @@ WATCH_CASES = tuple(c for c in hostile.CASES if not ({"quadratic", "long"} & c.t
 
 
 @pytest.mark.timeout(180)
-def test_hostile_files_dropped_into_a_watched_folder_get_statuses_and_the_watcher_keeps_going(tmp_path: Path) -> None:
+def test_hostile_files_dropped_into_a_watched_folder_get_statuses_and_the_watcher_keeps_going(
+    tmp_path: Path,
+) -> None:
     src, out = tmp_path / "docs", tmp_path / "out"
     hostile.write_good(src)
     with Watcher(src, out, Settings(), quiet_ms=50) as w:

@@ -24,7 +24,9 @@ def test_each_case_gives_chunks_or_a_clear_error(case: hostile.Hostile) -> None:
         doc = segment.parse_bytes(case.make(), case.source)
         chunks = list(segment.chunk(doc, Settings()))
     except segment.SegmentError as exc:
-        assert case.expect == "failed" or case.statuses, f"{case.source}: unexpected {exc.status}: {exc.reason}"
+        assert case.expect == "failed" or case.statuses, (
+            f"{case.source}: unexpected {exc.status}: {exc.reason}"
+        )
         assert exc.status in case.statuses and exc.source == case.source and exc.reason.strip()
         return
     assert case.expect == "ok", f"{case.source} ({case.why}) should have failed"

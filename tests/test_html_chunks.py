@@ -16,9 +16,8 @@ from pathlib import Path
 import pytest
 
 import segment
-from segment.tree import visible_texts
 from segment.render import render_row
-from segment.tree import Definition, DefinitionList, Table
+from segment.tree import Definition, DefinitionList, Table, visible_texts
 from tests.conftest import FIXTURES
 
 SETTINGS = segment.Settings(max_tokens=64, min_tokens=16)
@@ -81,8 +80,18 @@ def test_demo_page_chunks(path: Path, budget: int) -> None:
     assert main_lines is not None
     assert all(c.lines and main_lines[0] <= c.lines[0] <= c.lines[1] <= main_lines[1] for c in chunks)
     text = "\n".join(c.text for c in chunks)
-    for word in ("Skip to the content", "Was this page helpful", "cookie", "Privacy", "Service status",
-                 "API reference", "Northwind Fleet docs", "Home", "Up\n", "‹ Errors"):
+    for word in (
+        "Skip to the content",
+        "Was this page helpful",
+        "cookie",
+        "Privacy",
+        "Service status",
+        "API reference",
+        "Northwind Fleet docs",
+        "Home",
+        "Up\n",
+        "‹ Errors",
+    ):
         assert word not in text, word
 
 

@@ -198,7 +198,9 @@ def test_source_md_structures_in_the_tree() -> None:
     pages = _pages()
     titled = sum(1 for p in pages if parse(p.read_bytes(), p.name).title)
     assert titled == len(pages)
-    create = parse((corpus_dir("html") / "postgresql-15-docs" / "sql-createtable.html").read_bytes(), "x.html")
+    create = parse(
+        (corpus_dir("html") / "postgresql-15-docs" / "sql-createtable.html").read_bytes(), "x.html"
+    )
     # SOURCE.md: the page title is an h2 in div.refnamediv, then Synopsis / Description / Parameters...
     heads = [s.heading.text for s in create.sections if s.heading]
     assert heads[:4] == ["CREATE TABLE", "Synopsis", "Description", "Parameters"]

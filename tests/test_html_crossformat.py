@@ -77,9 +77,13 @@ def _blocks(blocks: list[Block], depth: int) -> Iterator[tuple[Any, ...]]:
                 lang = None if b.language in _NO_LANGUAGE else b.language
                 yield (depth, "code", lang, tuple(lines))
         elif isinstance(b, Table):
-            yield (depth, "table", _norm(b.caption or ""),
-                   tuple(tuple(_norm(c) for c in r.cells) for r in b.header),
-                   tuple(tuple(_norm(c) for c in r.cells) for r in b.rows))
+            yield (
+                depth,
+                "table",
+                _norm(b.caption or ""),
+                tuple(tuple(_norm(c) for c in r.cells) for r in b.header),
+                tuple(tuple(_norm(c) for c in r.cells) for r in b.rows),
+            )
         elif isinstance(b, ListBlock):
             yield (depth, "list", b.ordered, b.start)
             for item in b.items:
@@ -155,6 +159,8 @@ def test_corpus_markdown_agrees() -> None:
             strict += _check(path)
         except AssertionError as exc:
             failures.append(f"{path.name}: {str(exc).splitlines()[0][:200]}")
-    print(f"\ncross-format: {len(files)} corpus files, {strict} compared strictly, "
-          f"{len(files) - strict} with raw HTML blocks (weaker check), {len(failures)} failures")
+    print(
+        f"\ncross-format: {len(files)} corpus files, {strict} compared strictly, "
+        f"{len(files) - strict} with raw HTML blocks (weaker check), {len(failures)} failures"
+    )
     assert failures == []

@@ -37,13 +37,29 @@ def test_boilerplate_words_never_reach_the_tree() -> None:
     # Common practice (no standard names page chrome): nav, header, footer, aside, script, style,
     # noscript, template, forms and hidden elements are not content.
     text = _all_text(_doc("boilerplate.html"))
-    for word in ("Skip to content", "Search the docs", "Guides", "cookies", "do not index me",
-                 "Enable scripts", "Template text", "Hidden text", "Inline-hidden", "decorative",
-                 "See also the drone firmware", "Was this page helpful", "All rights reserved",
-                 "On this page"):
+    for word in (
+        "Skip to content",
+        "Search the docs",
+        "Guides",
+        "cookies",
+        "do not index me",
+        "Enable scripts",
+        "Template text",
+        "Hidden text",
+        "Inline-hidden",
+        "decorative",
+        "See also the drone firmware",
+        "Was this page helpful",
+        "All rights reserved",
+        "On this page",
+    ):
         assert word not in text, word
-    for word in ("Dock firmware", "Each dock runs its own firmware", "Docks update at night",
-                 "An update never starts"):
+    for word in (
+        "Dock firmware",
+        "Each dock runs its own firmware",
+        "Docks update at night",
+        "An update never starts",
+    ):
         assert word in text, word
 
 

@@ -14,9 +14,9 @@ from __future__ import annotations
 import re
 from collections import Counter
 
+import lxml.html
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
-import lxml.html
 
 from segment.adapters.html import parse
 from segment.errors import ParseError
@@ -25,11 +25,51 @@ from tests.test_html_chunks import pretty_text
 
 WORD = re.compile(r"\w+")
 WORDS = st.sampled_from(["dock", "drone", "route", "zone", "battery", "lid", "wind", "site", "pack", "map"])
-BLOCK = ["div", "p", "section", "blockquote", "pre", "h1", "h2", "h3", "h4", "li", "ul", "ol",
-         "dl", "dt", "dd", "table", "tr", "td", "th", "details", "summary", "figure", "figcaption",
-         "article", "thead", "tbody", "caption", "hgroup", "address", "center"]
-ATTRS = ["", "", "", ' class="note"', ' class="admonition warning"', ' class="title"', ' class="table"',
-         ' role="heading" aria-level="3"', ' open', ' colspan="2"', ' id="x"']
+BLOCK = [
+    "div",
+    "p",
+    "section",
+    "blockquote",
+    "pre",
+    "h1",
+    "h2",
+    "h3",
+    "h4",
+    "li",
+    "ul",
+    "ol",
+    "dl",
+    "dt",
+    "dd",
+    "table",
+    "tr",
+    "td",
+    "th",
+    "details",
+    "summary",
+    "figure",
+    "figcaption",
+    "article",
+    "thead",
+    "tbody",
+    "caption",
+    "hgroup",
+    "address",
+    "center",
+]
+ATTRS = [
+    "",
+    "",
+    "",
+    ' class="note"',
+    ' class="admonition warning"',
+    ' class="title"',
+    ' class="table"',
+    ' role="heading" aria-level="3"',
+    " open",
+    ' colspan="2"',
+    ' id="x"',
+]
 INLINE = ["span", "b", "em", "code", "a", "small"]
 
 
@@ -70,16 +110,26 @@ def _tree_words(doc: Document) -> Counter[str]:
     return _chars(pretty_text(doc))
 
 
-@settings(max_examples=int(__import__("os").environ.get("HTML_PROP_EXAMPLES", "300")), deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(
+    max_examples=int(__import__("os").environ.get("HTML_PROP_EXAMPLES", "300")),
+    deadline=None,
+    suppress_health_check=[HealthCheck.too_slow],
+)
 @given(fragments())
 def test_every_visible_word_of_main_reaches_the_tree(body: str) -> None:
-    page = f"<!DOCTYPE html><html><head><title>t</title></head><body><main>{body}</main></body></html>".encode()
+    page = (
+        f"<!DOCTYPE html><html><head><title>t</title></head><body><main>{body}</main></body></html>".encode()
+    )
     doc = parse(page, "gen.html")
     missing = _reference_words(page) - _tree_words(doc)
     assert not missing, (missing, body)
 
 
-@settings(max_examples=int(__import__("os").environ.get("HTML_PROP_EXAMPLES", "300")), deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(
+    max_examples=int(__import__("os").environ.get("HTML_PROP_EXAMPLES", "300")),
+    deadline=None,
+    suppress_health_check=[HealthCheck.too_slow],
+)
 @given(fragments())
 def test_without_landmarks_the_heuristic_keeps_ninety_percent(body: str) -> None:
     # Without <main> or <article>, the main-content rule may leave out what sits beside the
@@ -101,12 +151,52 @@ def test_arbitrary_bytes_never_raise_anything_but_parse_error(data: bytes) -> No
         pass
 
 
-SOUP = st.sampled_from([
-    "<div>", "</div>", "<p>", "</p>", "<table>", "<tr>", "<td>", "</td>", "</table>", "<ul>", "<li>",
-    "</ul>", "<dl>", "<dt>", "<dd>", "</dl>", "<h2>", "</h2>", "<pre>", "</pre>", "<br>", "<b>", "</i>",
-    "<details>", "<summary>", "<blockquote>", "<nav>", "<main>", "</main>", "<script>", "</script>",
-    "<!--", "-->", "&amp;", "&bogus;", "\n", " ", "dock", "route", "<a href='#'>", "</a>", "<img alt=x>",
-])
+SOUP = st.sampled_from(
+    [
+        "<div>",
+        "</div>",
+        "<p>",
+        "</p>",
+        "<table>",
+        "<tr>",
+        "<td>",
+        "</td>",
+        "</table>",
+        "<ul>",
+        "<li>",
+        "</ul>",
+        "<dl>",
+        "<dt>",
+        "<dd>",
+        "</dl>",
+        "<h2>",
+        "</h2>",
+        "<pre>",
+        "</pre>",
+        "<br>",
+        "<b>",
+        "</i>",
+        "<details>",
+        "<summary>",
+        "<blockquote>",
+        "<nav>",
+        "<main>",
+        "</main>",
+        "<script>",
+        "</script>",
+        "<!--",
+        "-->",
+        "&amp;",
+        "&bogus;",
+        "\n",
+        " ",
+        "dock",
+        "route",
+        "<a href='#'>",
+        "</a>",
+        "<img alt=x>",
+    ]
+)
 
 
 @settings(max_examples=int(__import__("os").environ.get("HTML_PROP_EXAMPLES", "300")), deadline=None)

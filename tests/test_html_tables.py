@@ -40,10 +40,22 @@ def test_steel_castings_example_thead_spans() -> None:
     (table,) = _tables(html)
     header, rows = _grid(table)
     assert header == [
-        ["Grade.", "Yield Point.", "Ultimate tensile strength", "Ultimate tensile strength",
-         "Per cent elong. 50.8mm or 2 in.", "Per cent reduct. area."],
-        ["Grade.", "Yield Point.", "kg/mm2", "lb/in2",
-         "Per cent elong. 50.8mm or 2 in.", "Per cent reduct. area."],
+        [
+            "Grade.",
+            "Yield Point.",
+            "Ultimate tensile strength",
+            "Ultimate tensile strength",
+            "Per cent elong. 50.8mm or 2 in.",
+            "Per cent reduct. area.",
+        ],
+        [
+            "Grade.",
+            "Yield Point.",
+            "kg/mm2",
+            "lb/in2",
+            "Per cent elong. 50.8mm or 2 in.",
+            "Per cent reduct. area.",
+        ],
     ]
     assert rows == [["Hard", "0.45 ultimate", "56.2", "80,000", "15", "20"]]
 
@@ -59,8 +71,7 @@ def test_steel_castings_example_thead_spans() -> None:
         ),
         pytest.param(
             # 4.9.12.1: rowspan=0 -> "cell grows downward" to the end of the row group only.
-            "<table><tbody><tr><td rowspan=0>A<td>1<tr><td>2<tr><td>3</tbody>"
-            "<tbody><tr><td>B<td>4</table>",
+            "<table><tbody><tr><td rowspan=0>A<td>1<tr><td>2<tr><td>3</tbody><tbody><tr><td>B<td>4</table>",
             [["A", "1"], ["A", "2"], ["A", "3"], ["B", "4"]],
             id="rowspan-zero",
         ),

@@ -17,7 +17,6 @@ from segment.adapters.pdf import parse, parse_pdf
 from segment.errors import ParseError, SegmentError, TooLarge
 from tests.conftest import FIXTURES, pdf_renderer
 
-
 render = pdf_renderer()
 
 
@@ -159,7 +158,9 @@ def test_registry_entry_point_and_api(good: bytes, tmp_path: object) -> None:
     assert chunks and all(c.format == "pdf" and c.pages for c in chunks)
 
 
-def test_mupdf_warnings_go_to_the_log_not_stdout(good: bytes, capsys: pytest.CaptureFixture[str], caplog: pytest.LogCaptureFixture) -> None:
+def test_mupdf_warnings_go_to_the_log_not_stdout(
+    good: bytes, capsys: pytest.CaptureFixture[str], caplog: pytest.LogCaptureFixture
+) -> None:
     with caplog.at_level(logging.DEBUG, logger="segment.adapters.pdf"):
         parse_pdf(render.broken_xref(good), "xref.pdf")
         parse_pdf(good, "good.pdf", table_engine="pymupdf")  # find_tables would advertise on stdout

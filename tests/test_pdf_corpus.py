@@ -29,7 +29,13 @@ pytestmark = pytest.mark.corpus
 
 PDFS = sorted((CORPUS / "pdf").rglob("*.pdf")) if (CORPUS / "pdf").is_dir() else []
 NAMES = [p.name for p in PDFS]
-WITH_OUTLINE = ["policy.pdf", "debian-reference.en.pdf", "R-intro.pdf", "acmart-sample-sigconf.pdf", "mnras_guide.pdf"]
+WITH_OUTLINE = [
+    "policy.pdf",
+    "debian-reference.en.pdf",
+    "R-intro.pdf",
+    "acmart-sample-sigconf.pdf",
+    "mnras_guide.pdf",
+]
 SETTINGS = segment.Settings(max_tokens=512, min_tokens=64)
 
 
@@ -122,7 +128,9 @@ def test_font_headings_against_outline(corpus: dict[str, Parsed], name: str) -> 
     hits, found, expected, pairs = score(headings(parsed.fonts), parsed.toc)
     p, r, f = f1(hits, found, expected)
     agree = level_agreement(pairs)
-    print(f"{name}: precision {p:.3f} recall {r:.3f} F1 {f:.3f} levels {agree:.3f} ({hits}/{found}, {expected} entries)")
+    print(
+        f"{name}: precision {p:.3f} recall {r:.3f} F1 {f:.3f} levels {agree:.3f} ({hits}/{found}, {expected} entries)"
+    )
     assert parsed.fonts.metadata["headings_from"] == "fonts"
     assert f >= PER_FILE_F1
     assert agree >= LEVEL_AGREEMENT
@@ -199,7 +207,9 @@ def test_body_words_present(corpus: dict[str, Parsed], name: str) -> None:
     # the most repeated running lines (the debug view lists them as "text (xN)").
     parsed = corpus[name]
     with pymupdf.open(parsed.path) as doc:
-        ref = Counter(w.casefold() for page in doc for w4 in page.get_text("words") for w in WORD.findall(w4[4]))
+        ref = Counter(
+            w.casefold() for page in doc for w4 in page.get_text("words") for w in WORD.findall(w4[4])
+        )
     removed: Counter[str] = Counter()
     for sample in parsed.outline.metadata["running_line_samples"]:
         text, _, count = sample.rpartition(" (x")
@@ -240,7 +250,9 @@ def test_ruled_tables_match_find_tables(corpus: dict[str, Parsed], name: str) ->
                     if not any(cells):
                         continue
                     total += 1
-                    hit += key(cells) in ours.get(page_no, set()) or _spanned(key(cells), ours.get(page_no, set()))
+                    hit += key(cells) in ours.get(page_no, set()) or _spanned(
+                        key(cells), ours.get(page_no, set())
+                    )
     print(f"{name}: {hit}/{total} reference rows found whole")
     assert total and hit / total >= 0.9
 
@@ -333,7 +345,9 @@ def test_admonitions_become_labelled_quotes(corpus: dict[str, Parsed]) -> None:
     quotes = [b for _, s in parsed.outline.walk() for b in s.blocks if isinstance(b, Quote)]
     labels = Counter(q.label for q in quotes)
     assert labels["Warning"] >= 10 and labels["Note"] >= 10 and labels["Tip"] >= 10
-    root = next(s for _, s in parsed.outline.walk() if s.heading and s.heading.text.endswith("The root account"))
+    root = next(
+        s for _, s in parsed.outline.walk() if s.heading and s.heading.text.endswith("The root account")
+    )
     warning = next(b for b in root.blocks if isinstance(b, Quote) and b.label == "Warning")
     assert warning.blocks[0].text == "Never share the root password with others."  # type: ignore[union-attr]
 

@@ -53,7 +53,10 @@ def test_table_split_by_the_page_break_is_one_table(data: bytes) -> None:
     table = tables[0]
     assert table.header[0].cells == ["Check", "Interval", "Who signs", "Typical duration"]
     assert [r.cells[0] for r in table.rows] == [
-        "Pre-flight visual", "Motor and bearing test", "Battery capacity test", "Depot overhaul"
+        "Pre-flight visual",
+        "Motor and bearing test",
+        "Battery capacity test",
+        "Depot overhaul",
     ]
 
 

@@ -21,7 +21,6 @@ from segment.adapters.pdf import parse_pdf
 from segment.tree import Code, Document, ListBlock, ListItem, Paragraph, Table
 from tests.conftest import CORPUS, FIXTURES, pdf_renderer
 
-
 render = pdf_renderer()
 FRONT_MATTER = re.compile(r"\A---\n.*?\n---\n", re.S)
 MD = MarkdownIt("commonmark", {"html": False}).enable("table")
@@ -227,7 +226,9 @@ def corpus_scores() -> dict[str, list[int]]:
             if columns == 1:
                 # Story lets wide tables overflow a narrow column (text past the column is
                 # clipped), so rows are compared on the one-column rendering only.
-                pairs.append(("rows", [" | ".join(r) for r in expected.rows], [" | ".join(r) for r in got.rows]))
+                pairs.append(
+                    ("rows", [" | ".join(r) for r in expected.rows], [" | ".join(r) for r in got.rows])
+                )
             for key, exp, fnd in pairs:
                 totals[key][0] += matched(exp, fnd)
                 totals[key][1] += len(fnd)
@@ -254,7 +255,9 @@ def test_corpus_markdown_headings_round_trip(corpus_scores: dict[str, list[int]]
     # (215 of 220 headings), relative levels of consecutive matches 1.000.
     precision, recall = _pr(corpus_scores["headings"])
     agree, pairs, _ = corpus_scores["levels"]
-    print(f"heading precision {precision:.3f} recall {recall:.3f} {corpus_scores['headings']} levels {agree}/{pairs}")
+    print(
+        f"heading precision {precision:.3f} recall {recall:.3f} {corpus_scores['headings']} levels {agree}/{pairs}"
+    )
     assert precision >= 0.9 and recall >= 0.9
     assert pairs and agree / pairs >= 0.9
 

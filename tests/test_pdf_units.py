@@ -16,8 +16,12 @@ from segment.adapters.pdf.tables import line_words
 from segment.gcpause import paused_gc
 
 
-def line(text: str, x0: float, y0: float, x1: float, page: int = 1, size: float = 10.0, block: int = 0) -> Line:
-    ln = Line(page, x0, y0, x1, y0 + size * 1.2, [Piece(text, x0, x1, size, False, False, False, False)], block)
+def line(
+    text: str, x0: float, y0: float, x1: float, page: int = 1, size: float = 10.0, block: int = 0
+) -> Line:
+    ln = Line(
+        page, x0, y0, x1, y0 + size * 1.2, [Piece(text, x0, x1, size, False, False, False, False)], block
+    )
     ln.finish()
     return ln
 
@@ -61,7 +65,14 @@ def test_capitalised_continuation_follows_the_same_rule() -> None:
 
 @pytest.mark.parametrize(
     ("text", "depth"),
-    [("2 Planning", 2 - 1), ("2.3 Routes", 2), ("A.1 Limits", 2), ("Chapter 4 Docks", 1), ("IV. Annex", 1), ("Planning", None)],
+    [
+        ("2 Planning", 2 - 1),
+        ("2.3 Routes", 2),
+        ("A.1 Limits", 2),
+        ("Chapter 4 Docks", 1),
+        ("IV. Annex", 1),
+        ("Planning", None),
+    ],
 )
 def test_numbering_depth(text: str, depth: int | None) -> None:
     assert numbering(text) == depth
@@ -134,7 +145,9 @@ def test_vector_figure_labels_stay_together() -> None:
     right = "Pads on the roof are cleared of snow before the first departure of the day. " * 6
     page.insert_textbox(pymupdf.Rect(310, 60, 550, 780), (right + "\n") * 5, fontsize=10)
     for i in range(12):  # a curve of twelve strokes with an axis box
-        page.draw_bezier((60 + i * 18, 500 - i * 9), (66 + i * 18, 480), (70 + i * 18, 520), (78 + i * 18, 495 - i * 8))
+        page.draw_bezier(
+            (60 + i * 18, 500 - i * 9), (66 + i * 18, 480), (70 + i * 18, 520), (78 + i * 18, 495 - i * 8)
+        )
     page.draw_rect(pymupdf.Rect(55, 400, 285, 560))
     for i, label in enumerate(["0", "10", "20", "30", "40"]):
         page.insert_text((60 + i * 50, 575), label, fontsize=7)
@@ -241,7 +254,9 @@ def test_style_changes_and_gaps_keep_pieces_apart() -> None:
 def test_monospaced_spans_are_never_joined() -> None:
     # Code indentation is measured from word widths; MuPDF's inserted spaces are narrower.
     mono = {"font": "DejaVuSansMono", "flags": 8}
-    pieces = span_pieces([_span("M_1", 90, 107.2, **mono), _span(" ", 107.2, 110.8, **mono), _span("+", 110.8, 116.5, **mono)])
+    pieces = span_pieces(
+        [_span("M_1", 90, 107.2, **mono), _span(" ", 107.2, 110.8, **mono), _span("+", 110.8, 116.5, **mono)]
+    )
     assert [p.text for p in pieces] == ["M_1", " ", "+"]
 
 
@@ -254,8 +269,15 @@ def test_table_words_are_placed_by_character_count() -> None:
 
 def test_table_words_across_pieces_use_each_piece_width() -> None:
     ln = Line(
-        1, 100, 50, 190, 62,
-        [Piece("ab ", 100, 130, 10, False, False, False, False), Piece("cdef", 130, 190, 10, True, False, False, False)],
+        1,
+        100,
+        50,
+        190,
+        62,
+        [
+            Piece("ab ", 100, 130, 10, False, False, False, False),
+            Piece("cdef", 130, 190, 10, True, False, False, False),
+        ],
         0,
     )
     ln.finish()

@@ -46,7 +46,9 @@ def sentence(draw: st.DrawFn) -> list[str]:
 @st.composite
 def paragraph(draw: st.DrawFn) -> tuple[str, list[str]]:
     sentences = draw(st.lists(sentence(), min_size=1, max_size=8))
-    ends = draw(st.lists(st.sampled_from([".", "!", "?", ".", ";"]), min_size=len(sentences), max_size=len(sentences)))
+    ends = draw(
+        st.lists(st.sampled_from([".", "!", "?", ".", ";"]), min_size=len(sentences), max_size=len(sentences))
+    )
     text = " ".join(" ".join(s).capitalize() + e for s, e in zip(sentences, ends))
     return text + "\n", [w for s in sentences for w in s]
 
@@ -93,7 +95,9 @@ def code(draw: st.DrawFn) -> tuple[str, list[str]]:
     lines = draw(st.lists(st.lists(WORD, min_size=0, max_size=8), min_size=1, max_size=14))
     lang = draw(st.sampled_from(["", "python", "sh"]))
     body = [" ".join(ws) + (" = call(x)" if ws and i % 3 == 0 else "") for i, ws in enumerate(lines)]
-    words = [w for ws in lines for w in ws] + [w for i, ws in enumerate(lines) if ws and i % 3 == 0 for w in ("call", "x")]
+    words = [w for ws in lines for w in ws] + [
+        w for i, ws in enumerate(lines) if ws and i % 3 == 0 for w in ("call", "x")
+    ]
     return "```" + lang + "\n" + "\n".join(body) + "\n```\n", words
 
 
@@ -133,7 +137,11 @@ PROPERTY_SETTINGS = settings(
     derandomize=EXAMPLES <= 40,  # CI sees the same examples every run; hunting runs explore
     database=None,
     deadline=None,
-    suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large, HealthCheck.function_scoped_fixture],
+    suppress_health_check=[
+        HealthCheck.too_slow,
+        HealthCheck.data_too_large,
+        HealthCheck.function_scoped_fixture,
+    ],
 )
 
 

@@ -13,8 +13,20 @@ from segment.chunk import Chunk, chunk_id
 from tests.conftest import FIXTURES
 
 SCHEMA = json.loads(resources.files("segment").joinpath("schema/chunk.schema.json").read_text())
-FIELDS = ["id", "source", "format", "seq", "breadcrumb", "text", "tokens", "blocks", "lines", "pages",
-          "anchor", "oversize"]
+FIELDS = [
+    "id",
+    "source",
+    "format",
+    "seq",
+    "breadcrumb",
+    "text",
+    "tokens",
+    "blocks",
+    "lines",
+    "pages",
+    "anchor",
+    "oversize",
+]
 
 
 @pytest.mark.parametrize("path", sorted((FIXTURES / "markdown").glob("*.md")), ids=lambda p: p.stem)

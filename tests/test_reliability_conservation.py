@@ -37,8 +37,29 @@ _SHORTCODE = re.compile(r"\{\{[<%].*?[%>]\}\}", re.DOTALL)
 _ALERT = re.compile(r"\[!(\w+)\]")
 _HEADING_ATTRS = re.compile(r"[ \t]*\{#[^}\n]*\}[ \t]*$", re.MULTILINE)
 _TOKEN = re.compile(r"\w+|[^\w\s]")
-_BLOCK = {"p", "td", "th", "li", "br", "div", "h1", "h2", "h3", "h4", "h5", "h6", "tr", "pre",
-          "blockquote", "dd", "dt", "table", "ul", "ol", "hr"}
+_BLOCK = {
+    "p",
+    "td",
+    "th",
+    "li",
+    "br",
+    "div",
+    "h1",
+    "h2",
+    "h3",
+    "h4",
+    "h5",
+    "h6",
+    "tr",
+    "pre",
+    "blockquote",
+    "dd",
+    "dt",
+    "table",
+    "ul",
+    "ol",
+    "hr",
+}
 _REFERENCE = (
     MarkdownIt("commonmark", {"html": True, "maxNesting": 100})
     .enable(["table", "strikethrough"])
@@ -117,8 +138,10 @@ def markdown_files(*folders: Path) -> list[Path]:
 
 def report(label: str, tally: Tally, files: int) -> str:
     worst = ", ".join(f"{name}:{tok!r}x{n}" for (name, tok), n in tally.lost.most_common(5))
-    return (f"{label}: {files} files, {tally.kept}/{tally.visible} visible characters kept = "
-            f"{tally.share:.3%} (flagged: {len(tally.flagged)}; most lost: {worst or 'none'})")
+    return (
+        f"{label}: {files} files, {tally.kept}/{tally.visible} visible characters kept = "
+        f"{tally.share:.3%} (flagged: {len(tally.flagged)}; most lost: {worst or 'none'})"
+    )
 
 
 @pytest.mark.timeout(60)

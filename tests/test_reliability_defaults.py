@@ -24,8 +24,17 @@ from segment.settings import Settings
 from tests import hostile
 from tests.daemon_helpers import assert_feed_matches, chunk_files, current_ids, feed, page, write
 
-SECRET_NAMES = [".env", ".env.md", ".env.production.md", "id_rsa", "id_rsa.md", "id_ed25519.md",
-                "certs/server.pem", "certs/server.key", "deploy/.env.local.md"]
+SECRET_NAMES = [
+    ".env",
+    ".env.md",
+    ".env.production.md",
+    "id_rsa",
+    "id_rsa.md",
+    "id_ed25519.md",
+    "certs/server.pem",
+    "certs/server.key",
+    "deploy/.env.local.md",
+]
 
 
 @pytest.mark.timeout(60)
@@ -45,8 +54,18 @@ def test_files_that_usually_hold_secrets_are_excluded_by_default(tmp_path: Path)
 @pytest.mark.timeout(60)
 def test_chunk_paths_stay_inside_out_whatever_the_names(tmp_path: Path) -> None:
     src, out = tmp_path / "docs", tmp_path / "out"
-    names = [b"..md", b"...md", b"-rf .md", b" lead.md", b"back\\..\\slash.md", b"x\xff\xfe.md",
-             b"nl\n..\n.md", "\u202eevil.md".encode(), b"n" * 252 + b".md", b"%2e%2e%2fx.md"]
+    names = [
+        b"..md",
+        b"...md",
+        b"-rf .md",
+        b" lead.md",
+        b"back\\..\\slash.md",
+        b"x\xff\xfe.md",
+        b"nl\n..\n.md",
+        "\u202eevil.md".encode(),
+        b"n" * 252 + b".md",
+        b"%2e%2e%2fx.md",
+    ]
     deep = os.path.join(os.fsencode(src), b"..a", b"...", b"b")
     os.makedirs(deep)
     for name in names:
@@ -91,7 +110,9 @@ def test_output_inside_the_source_root_is_not_read_back(tmp_path: Path) -> None:
 
 
 @pytest.mark.timeout(60)
-def test_a_file_that_vanishes_between_scan_and_read_is_no_error(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+def test_a_file_that_vanishes_between_scan_and_read_is_no_error(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     src, out = tmp_path / "docs", tmp_path / "out"
     write(src / "stays.md", page("Geofences"))
     write(src / "was-good.md", page("Battery care"))

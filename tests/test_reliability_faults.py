@@ -38,8 +38,6 @@ from tests.daemon_helpers import (
 QUIET_MS = 50
 
 
-
-
 def fresh_equal(src: Path, out: Path, tmp_path: Path) -> None:
     oracle = tmp_path / f"oracle-{time.monotonic_ns()}"
     reconcile(src, oracle, full=True)
@@ -67,7 +65,8 @@ class _NoWatchesLeft(Observer):  # type: ignore[misc, valid-type]
 
 @pytest.mark.timeout(60)
 def test_an_exhausted_watch_limit_falls_back_to_polling_and_says_degraded(
-        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # RELIABILITY W2, portable variant: the watch-adding call raises OSError(ENOSPC).
     monkeypatch.setattr(watch, "Observer", _NoWatchesLeft)
     out = tmp_path / "out"
@@ -81,7 +80,8 @@ def test_an_exhausted_watch_limit_falls_back_to_polling_and_says_degraded(
 
 
 def test_more_folders_than_watches_is_detected_before_watching(
-        tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # watchdog 7.1 is silent when sub-folder watches fail (RELIABILITY W2), so we count first.
     for i in range(30):
         (tmp_path / f"d{i}").mkdir()
@@ -131,7 +131,8 @@ def test_the_file_system_type_is_read_from_mountinfo(monkeypatch: pytest.MonkeyP
 
 @pytest.mark.timeout(60)
 def test_a_network_file_system_is_watched_by_polling_and_still_converges(
-        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # RELIABILITY W12: inotify does not see changes made by other hosts; poll instead.
     monkeypatch.setattr(watch, "needs_polling", lambda path: True)
     monkeypatch.setattr(watch, "fs_type", lambda path: "nfs4")
@@ -183,8 +184,13 @@ def failing(monkeypatch: pytest.MonkeyPatch, name: str, code: int, times: int = 
 @pytest.mark.timeout(60)
 @pytest.mark.parametrize(("call", "code"), [("fsync", errno.EIO), ("write", errno.ENOSPC)])
 def test_a_failed_fsync_or_a_full_disk_commits_nothing_and_the_next_build_converges(
-        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str],
-        call: str, code: int) -> None:
+    docs: Path,
+    tmp_path: Path,
+    monkeypatch: pytest.MonkeyPatch,
+    capsys: pytest.CaptureFixture[str],
+    call: str,
+    code: int,
+) -> None:
     # RELIABILITY S3 (never retry a failed fsync and call the data safe) and S4 (ENOSPC).
     out = tmp_path / "out"
     assert run_build(docs, out, Settings()) == 0
@@ -212,7 +218,8 @@ def quick_retry(monkeypatch: pytest.MonkeyPatch) -> Iterator[None]:
 
 @pytest.mark.timeout(90)
 def test_a_write_error_while_watching_keeps_the_watcher_alive_and_is_retried(
-        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, quick_retry: None) -> None:
+    docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, quick_retry: None
+) -> None:
     # RELIABILITY S3/S4 under watch: the batch is not committed, the state says so, a retry
     # converges, and the watcher thread survives.
     out = tmp_path / "out"
@@ -236,7 +243,8 @@ def test_a_write_error_while_watching_keeps_the_watcher_alive_and_is_retried(
 
 
 def test_each_chunk_file_is_fsynced_before_its_rename_and_its_folder_after(
-        docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     # RELIABILITY S2 (pytest cannot cut power): spy on the calls. POSIX atomic replace practice:
     # write the temp file, fsync it, rename over the target, fsync the folder.
     out = tmp_path / "out"
@@ -270,7 +278,7 @@ def test_each_chunk_file_is_fsynced_before_its_rename_and_its_folder_after(
         tmp, dst = what.split(" -> ")
         assert ("fsync", tmp) in calls[:i], f"{dst}: renamed before its temp file was fsynced"
         folder = os.path.dirname(dst)
-        assert ("fsync", folder) in calls[i + 1:], f"{dst}: folder not fsynced after the rename"
+        assert ("fsync", folder) in calls[i + 1 :], f"{dst}: folder not fsynced after the rename"
     feed_sync = max(i for i, c in enumerate(calls) if c == ("fsync", str(out / "changes.jsonl")))
     assert feed_sync > max(i for i, _ in renames)  # chunk files are durable before the feed names them
 
@@ -279,7 +287,9 @@ def test_each_chunk_file_is_fsynced_before_its_rename_and_its_folder_after(
 
 
 @pytest.mark.timeout(90)
-def test_status_readers_never_see_a_locked_database_while_the_watcher_writes(docs: Path, tmp_path: Path) -> None:
+def test_status_readers_never_see_a_locked_database_while_the_watcher_writes(
+    docs: Path, tmp_path: Path
+) -> None:
     # RELIABILITY S5: one writer; readers are read-only with a busy timeout.
     out = tmp_path / "out"
     errors: list[BaseException] = []
@@ -292,7 +302,7 @@ def test_status_readers_never_see_a_locked_database_while_the_watcher_writes(doc
                 try:
                     assert read_status(out) is not None
                     reads["n"] += 1
-                except BaseException as exc:  # noqa: BLE001 - collected and asserted below
+                except BaseException as exc:
                     errors.append(exc)
                     return
 

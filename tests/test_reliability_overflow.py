@@ -27,8 +27,12 @@ FILES = 10_000
 
 
 def status(out: Path) -> dict[str, Any]:
-    done = subprocess.run([sys.executable, "-m", "segment", "status", str(out), "--json"],
-                          capture_output=True, text=True, timeout=30)
+    done = subprocess.run(
+        [sys.executable, "-m", "segment", "status", str(out), "--json"],
+        capture_output=True,
+        text=True,
+        timeout=30,
+    )
     return json.loads(done.stdout) if done.returncode == 0 else {}
 
 
@@ -50,8 +54,23 @@ def test_an_inotify_queue_overflow_is_detected_and_the_output_converges(tmp_path
     (src / "start.md").write_text("# Start\n\nThe fleet log begins.\n")
     environ = {k: v for k, v in os.environ.items() if not k.startswith("DOCSEGMENT_")}
     proc = subprocess.Popen(
-        [sys.executable, "-m", "segment", "watch", str(src), "-o", str(out), "--quiet-ms", "50", "--jobs", "2"],
-        env=environ, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
+        [
+            sys.executable,
+            "-m",
+            "segment",
+            "watch",
+            str(src),
+            "-o",
+            str(out),
+            "--quiet-ms",
+            "50",
+            "--jobs",
+            "2",
+        ],
+        env=environ,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        text=True,
     )
     try:
         assert proc.stderr is not None

@@ -93,7 +93,9 @@ def test_a_copy_slower_than_the_quiet_period_never_emits_a_partial_version(tmp_p
 
 
 @pytest.mark.timeout(60)
-def test_an_emptied_root_does_not_delete_every_chunk(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+def test_an_emptied_root_does_not_delete_every_chunk(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     # RELIABILITY W9: "more than X % of files vanish in one pass" -> keep the outputs. Here all of
     # them: a build of an empty root refuses to delete, and `--full` confirms the deletion.
     src, out = tmp_path / "docs", tmp_path / "out"
@@ -112,7 +114,9 @@ def test_an_emptied_root_does_not_delete_every_chunk(tmp_path: Path, capsys: pyt
 
 
 @pytest.mark.timeout(90)
-def test_a_root_swapped_for_an_empty_folder_pauses_the_watcher_until_the_files_are_back(tmp_path: Path) -> None:
+def test_a_root_swapped_for_an_empty_folder_pauses_the_watcher_until_the_files_are_back(
+    tmp_path: Path,
+) -> None:
     # An unmount leaves an empty mount point: no delete events arrive, the periodic full
     # reconcile finds nothing. The outputs stay, the state says so, and the files coming back
     # (remount) resume the watcher.
@@ -131,5 +135,3 @@ def test_a_root_swapped_for_an_empty_folder_pauses_the_watcher_until_the_files_a
         w.sync(20)
     assert chunk_files(out) == before
     assert not [e for e in feed(out) if e["op"] == "delete"]
-
-

@@ -56,8 +56,23 @@ def test_daemon_memory_does_not_grow_from_round_to_round(tmp_path: Path) -> None
         (src / f"area{i}").mkdir(parents=True)
     environ = {k: v for k, v in os.environ.items() if not k.startswith("DOCSEGMENT_")}
     proc = subprocess.Popen(
-        [sys.executable, "-m", "segment", "watch", str(src), "-o", str(out), "--quiet-ms", "50", "--jobs", "2"],
-        env=environ, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True,
+        [
+            sys.executable,
+            "-m",
+            "segment",
+            "watch",
+            str(src),
+            "-o",
+            str(out),
+            "--quiet-ms",
+            "50",
+            "--jobs",
+            "2",
+        ],
+        env=environ,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        text=True,
     )
     sizes: list[int] = []
     try:
@@ -70,7 +85,8 @@ def test_daemon_memory_does_not_grow_from_round_to_round(tmp_path: Path) -> None
                 for i in range(PAGES):
                     page_path(src, i).write_text(
                         f"# Page {i}\n\nRound {round_no} rewrite {k} of page {i}: the crew logs the swap.\n",
-                        encoding="utf-8")
+                        encoding="utf-8",
+                    )
             deadline = time.monotonic() + 60
             while not converged(out, round_no):
                 assert time.monotonic() < deadline, f"round {round_no} did not converge"

@@ -55,7 +55,9 @@ def run(document: Document, **settings: object) -> list[Chunk]:
 
 
 def test_a_section_that_fits_is_one_chunk_with_its_subsections() -> None:
-    tree = doc(section("Setup", 1, Paragraph(words(5)), children=[section("Step one", 2, Paragraph(words(5)))]))
+    tree = doc(
+        section("Setup", 1, Paragraph(words(5)), children=[section("Step one", 2, Paragraph(words(5)))])
+    )
     chunks = run(tree)
     assert len(chunks) == 1
     assert chunks[0].breadcrumb == ["Guide", "Setup"]
@@ -64,11 +66,16 @@ def test_a_section_that_fits_is_one_chunk_with_its_subsections() -> None:
 
 
 def test_small_siblings_are_packed_under_their_common_parent() -> None:
-    parent = section("Limits", 1, Paragraph(words(46)), children=[
-        section("Wind", 2, Paragraph(words(3))),
-        section("Rain", 2, Paragraph(words(3))),
-        section("Snow", 2, Paragraph(words(3))),
-    ])
+    parent = section(
+        "Limits",
+        1,
+        Paragraph(words(46)),
+        children=[
+            section("Wind", 2, Paragraph(words(3))),
+            section("Rain", 2, Paragraph(words(3))),
+            section("Snow", 2, Paragraph(words(3))),
+        ],
+    )
     chunks = run(doc(parent), min_tokens=10)
     packed = [c for c in chunks if "Wind" in c.text]
     assert len(packed) == 1 and "Rain" in packed[0].text and "Snow" in packed[0].text
@@ -77,20 +84,30 @@ def test_small_siblings_are_packed_under_their_common_parent() -> None:
 
 
 def test_a_small_intro_is_packed_with_the_first_subsections() -> None:
-    parent = section("Limits", 1, Paragraph(words(3)), children=[
-        section("Wind", 2, Paragraph(words(30))),
-        section("Rain", 2, Paragraph(words(30))),
-    ])
+    parent = section(
+        "Limits",
+        1,
+        Paragraph(words(3)),
+        children=[
+            section("Wind", 2, Paragraph(words(30))),
+            section("Rain", 2, Paragraph(words(30))),
+        ],
+    )
     chunks = run(doc(parent), min_tokens=10)
     assert chunks[0].text.startswith("Limits") and "Wind" in chunks[0].text
     assert chunks[0].breadcrumb == ["Guide", "Limits"]
 
 
 def test_siblings_over_min_tokens_stay_apart() -> None:
-    parent = section("Limits", 1, Paragraph(words(40)), children=[
-        section("Wind", 2, Paragraph(words(20))),
-        section("Rain", 2, Paragraph(words(20))),
-    ])
+    parent = section(
+        "Limits",
+        1,
+        Paragraph(words(40)),
+        children=[
+            section("Wind", 2, Paragraph(words(20))),
+            section("Rain", 2, Paragraph(words(20))),
+        ],
+    )
     chunks = run(doc(parent), min_tokens=10)
     assert [c.breadcrumb[-1] for c in chunks if c.breadcrumb[-1] in ("Wind", "Rain")] == ["Wind", "Rain"]
 
@@ -135,10 +152,17 @@ def test_a_row_over_budget_is_its_own_oversize_chunk() -> None:
 
 def test_list_splits_between_items_and_keeps_its_lead_in() -> None:
     items = [ListItem([Paragraph(words(8, f"i{k}x"))]) for k in range(10)]
-    tree = doc(section("Checks", 1, Paragraph(words(30, "intro")), Paragraph("Before take-off confirm:"),
-                       ListBlock(items=items)))
+    tree = doc(
+        section(
+            "Checks",
+            1,
+            Paragraph(words(30, "intro")),
+            Paragraph("Before take-off confirm:"),
+            ListBlock(items=items),
+        )
+    )
     chunks = run(tree)
-    with_lead = [c for c in chunks if "Before take-off confirm:" in c.text][0]
+    with_lead = next(c for c in chunks if "Before take-off confirm:" in c.text)
     assert "- i0x0" in with_lead.text  # the lead-in sentence stays with the first items
     for c in chunks:
         for line in c.text.split("\n"):
@@ -184,7 +208,7 @@ def test_overlap_repeats_whole_sentences_within_one_section_only() -> None:
     for prev, nxt in zip(ones, ones[1:]):
         first = nxt.text.split("\n\n")[0]
         assert first.startswith("Fact") and prev.text.endswith(first)
-    two = [c for c in chunks if c.breadcrumb[-1] == "Two"][0]
+    two = next(c for c in chunks if c.breadcrumb[-1] == "Two")
     assert not two.text.startswith("Fact")
     assert all(c.tokens <= 40 for c in chunks)
 
@@ -200,7 +224,9 @@ def test_ids_depend_on_content_not_position() -> None:
 
 def test_an_edit_changes_only_the_ids_of_its_chunks() -> None:
     def build(text: str) -> list[Chunk]:
-        return run(doc(*[section(f"S{i}", 1, Paragraph(text if i == 3 else words(45, f"s{i}"))) for i in range(8)]))
+        return run(
+            doc(*[section(f"S{i}", 1, Paragraph(text if i == 3 else words(45, f"s{i}"))) for i in range(8)])
+        )
 
     old, new = build(words(45, "old")), build(words(45, "new"))
     changed = [(o.breadcrumb, n.breadcrumb) for o, n in zip(old, new) if o.id != n.id]

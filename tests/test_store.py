@@ -11,8 +11,15 @@ SIG = StatSig(size=10, mtime_ns=1_000_000_000_000, ctime_ns=1_000_000_000_000, i
 
 
 def row(path: str, **kw: object) -> FileState:
-    base = dict(path=path, source=path, sig=SIG, hash="h", fingerprint="fp", ids=["a", "b"],
-                recorded_ns=SIG.mtime_ns + 10 * RACY_WINDOW_NS)
+    base = dict(
+        path=path,
+        source=path,
+        sig=SIG,
+        hash="h",
+        fingerprint="fp",
+        ids=["a", "b"],
+        recorded_ns=SIG.mtime_ns + 10 * RACY_WINDOW_NS,
+    )
     base.update(kw)
     return FileState(**base)  # type: ignore[arg-type]
 

@@ -91,7 +91,9 @@ def test_every_chunk_fits_under_the_real_tokenizer(tokenizer_file: Path) -> None
             if real != c.tokens:
                 bad.append(f"{page} chunk {c.seq}: records {c.tokens} tokens, the tokenizer counts {real}")
             if real > MAX_TOKENS and not c.oversize:
-                bad.append(f"{page} chunk {c.seq}: {real} tokens > {MAX_TOKENS}, not oversize: {c.text[:80]!r}")
+                bad.append(
+                    f"{page} chunk {c.seq}: {real} tokens > {MAX_TOKENS}, not oversize: {c.text[:80]!r}"
+                )
     assert not bad, "\n".join(bad)
 
 
@@ -145,12 +147,16 @@ def test_real_docs_fit_under_the_real_tokenizer(tokenizer_file: Path) -> None:
         for c in segment.chunk_file(path, settings, source=path.relative_to(root).as_posix()):
             real = _count(tok, c.text)
             if real != c.tokens or (real > 256 and not c.oversize):
-                bad.append(f"{c.source} chunk {c.seq}: tokenizer {real}, recorded {c.tokens}, oversize {c.oversize}")
+                bad.append(
+                    f"{c.source} chunk {c.seq}: tokenizer {real}, recorded {c.tokens}, oversize {c.oversize}"
+                )
     assert not bad, "\n".join(bad[:10])
 
 
 # F18 (fixed): a one-line code block one token over the budget was kept whole, not flagged.
-def test_one_line_code_block_just_over_budget_is_cut_between_words(tokenizer_file: Path, tmp_path: Path) -> None:
+def test_one_line_code_block_just_over_budget_is_cut_between_words(
+    tokenizer_file: Path, tmp_path: Path
+) -> None:
     tok = Tokenizer.from_file(str(tokenizer_file))
     line = "zfmkkxaodw pkprywesyd"
     fenced = _count(tok, f"```sh\n{line}\n```")
@@ -158,6 +164,8 @@ def test_one_line_code_block_just_over_budget_is_cut_between_words(tokenizer_fil
     assert budget >= 16 and all(_count(tok, f"```sh\n{w}\n```") <= budget for w in line.split())
     page = tmp_path / "one-line.md"
     page.write_text(f"```sh\n{line}\n```\n", encoding="utf-8")
-    chunks = segment.chunk_file(page, Settings(tokenizer=str(tokenizer_file), max_tokens=budget, min_tokens=0))
+    chunks = segment.chunk_file(
+        page, Settings(tokenizer=str(tokenizer_file), max_tokens=budget, min_tokens=0)
+    )
     counts = [_count(tok, c.text) for c in chunks]
     assert all(n <= budget or c.oversize for n, c in zip(counts, chunks)), (budget, counts)

@@ -53,7 +53,7 @@ def test_missing_or_bad_tokenizer_file_is_a_settings_error(tmp_path: Path) -> No
         TokenizerFileCounter(tmp_path / "nope.json")
     bad = tmp_path / "bad.json"
     bad.write_text("{}")
-    with pytest.raises(SettingsError, match="not a valid tokenizer.json"):
+    with pytest.raises(SettingsError, match=r"not a valid tokenizer\.json"):
         TokenizerFileCounter(bad)
 
 

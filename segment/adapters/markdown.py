@@ -128,11 +128,11 @@ def _shortcode_label(body: str) -> str:
     name = args[0][1]
     labels: list[str] = []
     for i, (key, value) in enumerate(args[1:]):
-        quoted = value[:1] in "\"`"
+        quoted = value[:1] in '"`'
         plain = value.strip('"`')
-        if key and key.lower() in _LABEL_KEYS:
-            labels.append(plain)
-        elif not key and (quoted or (name in ("tab", "alert") and i == 0)):
+        if (key and key.lower() in _LABEL_KEYS) or (
+            not key and (quoted or (name in ("tab", "alert") and i == 0))
+        ):
             labels.append(plain)
     return " ".join(label for label in labels if label)
 
@@ -218,7 +218,7 @@ class _TreeBuilder:
 
     def front_matter(self, content: str) -> None:
         try:
-            data = yaml.load(content, Loader=_YAML_LOADER)  # noqa: S506 (a safe loader)
+            data = yaml.load(content, Loader=_YAML_LOADER)
         except yaml.YAMLError as exc:
             self.doc.warnings.append(f"front matter is not valid YAML: {str(exc).splitlines()[0]}")
             data = None
@@ -319,7 +319,7 @@ def _label_alert(quote: Quote) -> None:
         m = _ALERT.match(first.text)
         if m:
             quote.label = m.group(1).capitalize()
-            first.text = first.text[m.end():].strip()
+            first.text = first.text[m.end() :].strip()
             if not first.text:
                 quote.blocks.pop(0)
 

@@ -42,7 +42,7 @@ def decode_text(data: bytes, warnings: list[str], declared: str | None = None) -
         (codecs.BOM_UTF16_BE, "utf-16-be"),
     ):
         if data.startswith(bom):
-            return data[len(bom):].decode(codec, errors="replace")
+            return data[len(bom) :].decode(codec, errors="replace")
     candidates = [c for c in (declared, "utf-8") if c]
     for codec in candidates:
         try:

@@ -55,7 +55,7 @@ def decode(data: bytes, source: str) -> Decoded:
     warnings: list[str] = []
     for bom, codec in _BOMS:
         if data.startswith(bom):
-            return _recode(data[len(bom):], codec, warnings)
+            return _recode(data[len(bom) :], codec, warnings)
     declared = EncodingDetector.find_declared_encoding(data[:4096], is_html=True)
     codec = "utf-8"
     if declared:

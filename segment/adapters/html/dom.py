@@ -40,8 +40,7 @@ def parse_tree(data: bytes, warnings: list[str]) -> etree._Element | None:
         root = None
     if any("Excessive depth" in entry.message for entry in parser.error_log):
         warnings.append(
-            f"nesting deeper than libxml2 allows: elements below depth {MAX_DEPTH} flattened, "
-            "no line numbers"
+            f"nesting deeper than libxml2 allows: elements below depth {MAX_DEPTH} flattened, no line numbers"
         )
         return _parse_flat(data)
     if root is None:

@@ -32,8 +32,12 @@ def heading_text(el: etree._Element) -> tuple[str, str | None]:
         if tag_of(node) == "a":
             if is_permalink(node):
                 href = node.get("href") or ""
-                anchor = anchor or (href[1:] if href.startswith("#") and len(href) > 1 else None) \
-                    or node.get("id") or node.get("name")
+                anchor = (
+                    anchor
+                    or (href[1:] if href.startswith("#") and len(href) > 1 else None)
+                    or node.get("id")
+                    or node.get("name")
+                )
                 walker.skip_subtree()
                 continue
             if not node.get("href") and (node.get("id") or node.get("name")):
@@ -116,7 +120,7 @@ def language(el: etree._Element) -> str | None:
         for token in (node.get("class") or "").split():
             for prefix in _LANG_PREFIXES:
                 if token.startswith(prefix) and len(token) > len(prefix):
-                    value = token[len(prefix):]
+                    value = token[len(prefix) :]
                     return None if value.lower() in _NO_LANG else value
     return None
 

@@ -59,7 +59,7 @@ class _Grid:
 
 
 def table_kind(el: etree._Element) -> str:
-    """"layout", "navigation" or "data"."""
+    """ "layout", "navigation" or "data"."""
     role = (el.get("role") or "").lower()
     if role in ("presentation", "none"):
         return "layout"

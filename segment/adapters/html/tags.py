@@ -20,16 +20,61 @@ HEADING_LEVEL: dict[str, int] = {t: i + 1 for i, t in enumerate(HEADING_TAGS)}
 
 BLOCK_TAGS: frozenset[str] = frozenset(
     {
-        "address", "article", "aside", "blockquote", "body", "caption", "center", "col", "colgroup",
-        "dd", "details", "dialog", "dir", "div", "dl", "dt", "fieldset", "figcaption", "figure",
-        "footer", "form", "header", "hgroup", "hr", "html", "legend", "li", "listing", "main",
-        "menu", "nav", "ol", "p", "plaintext", "pre", "search", "section", "summary", "table",
-        "tbody", "td", "tfoot", "th", "thead", "tr", "ul", "xmp", *HEADING_TAGS,
+        "address",
+        "article",
+        "aside",
+        "blockquote",
+        "body",
+        "caption",
+        "center",
+        "col",
+        "colgroup",
+        "dd",
+        "details",
+        "dialog",
+        "dir",
+        "div",
+        "dl",
+        "dt",
+        "fieldset",
+        "figcaption",
+        "figure",
+        "footer",
+        "form",
+        "header",
+        "hgroup",
+        "hr",
+        "html",
+        "legend",
+        "li",
+        "listing",
+        "main",
+        "menu",
+        "nav",
+        "ol",
+        "p",
+        "plaintext",
+        "pre",
+        "search",
+        "section",
+        "summary",
+        "table",
+        "tbody",
+        "td",
+        "tfoot",
+        "th",
+        "thead",
+        "tr",
+        "ul",
+        "xmp",
+        *HEADING_TAGS,
     }
 )
 """Elements that start a new block; everything else is inline (the HTML default for unknown tags)."""
 
-PARAGRAPH_TAGS: frozenset[str] = frozenset({"p", "address", "figcaption", "legend", "caption", "summary", "dt"})
+PARAGRAPH_TAGS: frozenset[str] = frozenset(
+    {"p", "address", "figcaption", "legend", "caption", "summary", "dt"}
+)
 """Blocks whose text is one paragraph (unless they hold other blocks)."""
 
 PRE_TAGS: frozenset[str] = frozenset({"pre", "listing", "xmp", "plaintext"})
@@ -37,42 +82,129 @@ LIST_TAGS: frozenset[str] = frozenset({"ul", "ol", "menu", "dir"})
 
 DROP_TAGS: frozenset[str] = frozenset(
     {
-        "script", "style", "noscript", "template", "nav", "footer", "aside", "form", "button",
-        "input", "select", "textarea", "option", "optgroup", "datalist", "iframe", "object",
-        "embed", "svg", "math-field", "canvas", "audio", "video", "map", "dialog", "head",
-        "link", "meta", "base", "title", "frameset", "frame",
+        "script",
+        "style",
+        "noscript",
+        "template",
+        "nav",
+        "footer",
+        "aside",
+        "form",
+        "button",
+        "input",
+        "select",
+        "textarea",
+        "option",
+        "optgroup",
+        "datalist",
+        "iframe",
+        "object",
+        "embed",
+        "svg",
+        "math-field",
+        "canvas",
+        "audio",
+        "video",
+        "map",
+        "dialog",
+        "head",
+        "link",
+        "meta",
+        "base",
+        "title",
+        "frameset",
+        "frame",
     }
 )
 """Boilerplate and non-text elements, dropped with their content (`header` has its own rule)."""
 
 DROP_ROLES: frozenset[str] = frozenset(
-    {"navigation", "banner", "contentinfo", "complementary", "search", "menu", "menubar", "toolbar",
-     "dialog", "alertdialog", "tablist", "tree"}
+    {
+        "navigation",
+        "banner",
+        "contentinfo",
+        "complementary",
+        "search",
+        "menu",
+        "menubar",
+        "toolbar",
+        "dialog",
+        "alertdialog",
+        "tablist",
+        "tree",
+    }
 )
 """ARIA landmark and widget roles that mark page chrome, not content."""
 
 DROP_CLASSES: frozenset[str] = frozenset(
     {
-        "navheader", "navfooter", "navbar", "nav", "navigation", "breadcrumb", "breadcrumbs",
-        "sidebar", "sphinxsidebar", "related", "site-header", "site-footer", "skip-link",
-        "skiplink", "skip-to-content", "cookie-banner", "cookie-notice", "cookie-consent",
-        "edit-this-page", "feedback", "pagination", "prev-next", "md-sidebar", "md-header",
-        "md-footer", "theme-doc-sidebar-container", "theme-doc-footer", "table-of-contents-sidebar",
+        "navheader",
+        "navfooter",
+        "navbar",
+        "nav",
+        "navigation",
+        "breadcrumb",
+        "breadcrumbs",
+        "sidebar",
+        "sphinxsidebar",
+        "related",
+        "site-header",
+        "site-footer",
+        "skip-link",
+        "skiplink",
+        "skip-to-content",
+        "cookie-banner",
+        "cookie-notice",
+        "cookie-consent",
+        "edit-this-page",
+        "feedback",
+        "pagination",
+        "prev-next",
+        "md-sidebar",
+        "md-header",
+        "md-footer",
+        "theme-doc-sidebar-container",
+        "theme-doc-footer",
+        "table-of-contents-sidebar",
     }
 )
 """Class (or id) tokens of boilerplate containers; matched as whole tokens, case-insensitively."""
 
 ADMONITION_CLASSES: frozenset[str] = frozenset(
     {
-        "admonition", "note", "notice", "tip", "hint", "warning", "caution", "important",
-        "danger", "attention", "callout", "markdown-alert", "theme-admonition", "alert",
+        "admonition",
+        "note",
+        "notice",
+        "tip",
+        "hint",
+        "warning",
+        "caution",
+        "important",
+        "danger",
+        "attention",
+        "callout",
+        "markdown-alert",
+        "theme-admonition",
+        "alert",
     }
 )
 """Class tokens of admonition boxes (a titled note kept as one block)."""
 
 PERMALINK_CLASSES: frozenset[str] = frozenset(
-    {"headerlink", "anchor", "anchorjs-link", "hash-link", "permalink", "header-anchor",
-     "heading-anchor", "anchor-link", "anchor-icon", "direct-link", "deep-link", "autolink-heading"}
+    {
+        "headerlink",
+        "anchor",
+        "anchorjs-link",
+        "hash-link",
+        "permalink",
+        "header-anchor",
+        "heading-anchor",
+        "anchor-link",
+        "anchor-icon",
+        "direct-link",
+        "deep-link",
+        "autolink-heading",
+    }
 )
 PERMALINK_TEXTS: frozenset[str] = frozenset({"", "¶", "#", "§", "🔗", "⚓", "⚓︎", "link", "permalink", "∞"})
 """Texts of a permalink marker inside a heading (common practice: Sphinx ¶, MkDocs ¶, GitHub icon)."""

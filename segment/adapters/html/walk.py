@@ -211,7 +211,9 @@ class Walker:
                     self._add(f.sink, table)
                     f.line = _later(f.line, table.span.lines[1] if table.span.lines else None)
                 elif table.caption:  # a table with no cells: its caption is still text a reader sees
-                    self._add(f.sink, Paragraph(table.caption, Span(lines=_lines(el.sourceline, el.sourceline))))
+                    self._add(
+                        f.sink, Paragraph(table.caption, Span(lines=_lines(el.sourceline, el.sourceline)))
+                    )
                 return False
         elif self.depth >= MAX_BLOCK_DEPTH and (
             tag in LIST_TAGS or tag in ("dl", "blockquote", "details") or is_admonition(el)
@@ -330,8 +332,16 @@ class Walker:
         if tag == "li":
             item = ListItem()
             items.append(item)
-            frame = _Frame(el, iter(el), item.blocks, node=item, finish=_finish_item,
-                           start=el.sourceline, line=el.sourceline or f.line, counted=True)
+            frame = _Frame(
+                el,
+                iter(el),
+                item.blocks,
+                node=item,
+                finish=_finish_item,
+                start=el.sourceline,
+                line=el.sourceline or f.line,
+                counted=True,
+            )
             self.depth += 1
             stack.append(frame)
             self._text(frame, el.text, frame.line)
@@ -340,8 +350,17 @@ class Walker:
         if not items:
             items.append(ListItem())
         item = items[-1]
-        stack.append(_Frame(None, iter([el]), item.blocks, node=item, finish=_finish_item,
-                            start=el.sourceline, line=el.sourceline or f.line))
+        stack.append(
+            _Frame(
+                None,
+                iter([el]),
+                item.blocks,
+                node=item,
+                finish=_finish_item,
+                start=el.sourceline,
+                line=el.sourceline or f.line,
+            )
+        )
 
     def _dl_child(self, stack: list[_Frame], f: _Frame, el: etree._Element, tag: str) -> None:
         self._flush(f)
@@ -359,19 +378,34 @@ class Walker:
             self._text(f, el.tail, f.line)
             return
         if tag == "div":  # WHATWG allows div groups of dt/dd inside dl
-            frame = _Frame(el, iter(el), None, _DL, f.node, None, start=el.sourceline,
-                           line=el.sourceline or f.line)
+            frame = _Frame(
+                el, iter(el), None, _DL, f.node, None, start=el.sourceline, line=el.sourceline or f.line
+            )
             stack.append(frame)
             self._text(frame, el.text, frame.line)
             return
         if not items:
             items.append(Definition(terms=[]))
         item = items[-1]
-        frame = _Frame(el, iter(el), item.blocks, node=item, finish=_finish_item,
-                       start=el.sourceline, line=el.sourceline or f.line)
+        frame = _Frame(
+            el,
+            iter(el),
+            item.blocks,
+            node=item,
+            finish=_finish_item,
+            start=el.sourceline,
+            line=el.sourceline or f.line,
+        )
         if tag != "dd":  # some other block inside dl: read it as part of the definition
-            frame = _Frame(None, iter([el]), item.blocks, node=item, finish=_finish_item,
-                           start=el.sourceline, line=el.sourceline or f.line)
+            frame = _Frame(
+                None,
+                iter([el]),
+                item.blocks,
+                node=item,
+                finish=_finish_item,
+                start=el.sourceline,
+                line=el.sourceline or f.line,
+            )
         else:
             frame.counted = True
             self.depth += 1
@@ -401,12 +435,16 @@ class Walker:
             m = _ALERT.match(first.text)
             if m:  # GitHub alert syntax as markdown-it renders it, labelled as the Markdown adapter does
                 node.label = m.group(1).capitalize()
-                first.text = first.text[m.end():].strip()
+                first.text = first.text[m.end() :].strip()
                 if not first.text:
                     node.blocks.pop(0)
-        elif node.label and node.blocks and isinstance(node.blocks[0], Paragraph):
-            if node.blocks[0].text.casefold().startswith(node.label.casefold() + ":"):
-                node.label = None  # the text says "Note: ..." itself; a label would repeat it
+        elif (
+            node.label
+            and node.blocks
+            and isinstance(node.blocks[0], Paragraph)
+            and node.blocks[0].text.casefold().startswith(node.label.casefold() + ":")
+        ):
+            node.label = None  # the text says "Note: ..." itself; a label would repeat it
         if not node.blocks and not node.label:
             return
         node.span = Span(lines=_lines(f.start, f.line))

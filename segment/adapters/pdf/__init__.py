@@ -23,7 +23,7 @@ from segment.gcpause import paused_gc
 from segment.settings import Settings
 from segment.tree import Document
 
-__all__ = ["parse", "parse_pdf", "PdfTimings"]
+__all__ = ["PdfTimings", "parse", "parse_pdf"]
 
 TABLE_ENGINES = ("own", "pymupdf", "none")
 
@@ -70,7 +70,9 @@ def parse_pdf(
         raise  # the caller reports these as resource limits
     except Exception as exc:  # a layout our heuristics did not foresee: say so, no traceback
         log.debug("%s: unexpected error in the PDF adapter", source, exc_info=True)
-        raise ParseError(source, f"PDF adapter failed on this file ({type(exc).__name__}: {exc})", status="error") from exc
+        raise ParseError(
+            source, f"PDF adapter failed on this file ({type(exc).__name__}: {exc})", status="error"
+        ) from exc
     finally:
         doc.close()
         count = flush_warnings(source)
@@ -102,7 +104,9 @@ def _parse_open(
             page = doc[index]
             rect = page.rect
             width, height = rect.width, rect.height
-            textpage = page.get_textpage(flags=extract.VECTOR_FLAGS if vectors is not None else extract.TEXT_FLAGS)
+            textpage = page.get_textpage(
+                flags=extract.VECTOR_FLAGS if vectors is not None else extract.TEXT_FLAGS
+            )
             lines = page_lines(page, index + 1, textpage, vectors)  # type: ignore[arg-type]
         except (RuntimeError, ValueError, MemoryError, pymupdf.mupdf.FzErrorBase) as exc:
             # A damaged page (missing from the page tree, broken content stream): say so, go on.
@@ -126,7 +130,9 @@ def _parse_open(
         pages.append(lines)
     if len(no_text) == doc.page_count:
         if doc.is_repaired:
-            raise ParseError(source, "damaged or truncated PDF: no readable text after repair", status="corrupt")
+            raise ParseError(
+                source, "damaged or truncated PDF: no readable text after repair", status="corrupt"
+            )
         raise ParseError(source, "no text layer on any page (OCR not performed)", status="no_text")
     t1 = time.process_time()
 
@@ -143,7 +149,9 @@ def _parse_open(
         if table_engine != "none" and body:
             ts = time.process_time()
             page = doc[index] if table_engine == "pymupdf" else None  # only find_tables() reads it
-            found, candidate = tables.find_page_tables(page, index + 1, body, table_engine, page_rulings[index])
+            found, candidate = tables.find_page_tables(
+                page, index + 1, body, table_engine, page_rulings[index]
+            )
             table_pages += int(candidate)
             body = _place_tables(body, found)
             table_time += time.process_time() - ts
@@ -188,7 +196,9 @@ def _parse_open(
         }
     )
     if unmatched:
-        document.warnings.append(f"{unmatched} outline entries not found on their pages (inserted at page top)")
+        document.warnings.append(
+            f"{unmatched} outline entries not found on their pages (inserted at page top)"
+        )
     build_tree(document, items)
     t3 = time.process_time()
     if timings is not None:

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
+
 from segment.adapters.pdf.code import code_lines
 from segment.adapters.pdf.extract import Line
 from segment.adapters.pdf.figures import FigureText
@@ -154,7 +155,7 @@ def classify(block: TextBlock, vocab: set[str]) -> Item:
         hanging = all(ln.x0 >= first.x0 + 1.5 for ln in lines[1:])
         if hanging:
             token, ordered, number = marker
-            body = [first.text.strip()[len(token.strip()):].strip()] + [ln.text for ln in lines[1:]]
+            body = [first.text.strip()[len(token.strip()) :].strip()] + [ln.text for ln in lines[1:]]
             return Item(
                 "item",
                 [block],
@@ -248,7 +249,13 @@ def merge_continuations(items: list[Item], vocab: set[str]) -> list[Item]:
         if item.kind == "text" and out and out[-1].kind in ("text", "item") and out[-1].level is None:
             prev = out[-1]
             moved = prev.blocks[-1].page != item.first.page or prev.blocks[-1].column != item.first.column
-            if moved and item.level is None and prev.text and item.text[:1].islower() and prev.text[-1] not in ".:!?":
+            if (
+                moved
+                and item.level is None
+                and prev.text
+                and item.text[:1].islower()
+                and prev.text[-1] not in ".:!?"
+            ):
                 prev.blocks.append(item.first)
                 prev.text = join_lines([prev.text, item.text], vocab)
                 continue

@@ -26,7 +26,9 @@ def item_span(item: Item) -> Span:
     """Pages of the item and the box of its first block."""
     first, last = item.pages
     x0, y0, x1, y1 = item.first.bbox
-    return Span(pages=(first, max(first, last)), bbox=(round(x0, 2), round(y0, 2), round(x1, 2), round(y1, 2)))
+    return Span(
+        pages=(first, max(first, last)), bbox=(round(x0, 2), round(y0, 2), round(x1, 2), round(y1, 2))
+    )
 
 
 def table_node(found: FoundTable) -> Table:
@@ -36,7 +38,7 @@ def table_node(found: FoundTable) -> Table:
         Row(cells=list(cells), span=Span(pages=pages, bbox=tuple(round(v, 2) for v in box)))  # type: ignore[arg-type]
         for cells, box in zip(found.rows, found.row_boxes)
     ]
-    rows += [Row(cells=list(c), span=Span(pages=pages)) for c in found.rows[len(found.row_boxes):]]
+    rows += [Row(cells=list(c), span=Span(pages=pages)) for c in found.rows[len(found.row_boxes) :]]
     header = [Row(cells=list(cells), span=Span(pages=pages)) for cells in found.header]
     bbox = tuple(round(v, 2) for v in found.bbox)
     return Table(header=header, rows=rows, span=Span(pages=pages, bbox=bbox))  # type: ignore[arg-type]

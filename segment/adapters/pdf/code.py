@@ -20,7 +20,7 @@ def code_lines(lines: list[Line]) -> list[str]:
     left = min(ln.x0 for ln in lines)
     out: list[str] = []
     for ln in lines:
-        indent = int(round((ln.x0 - left) / char_w)) if char_w > 0 else 0
+        indent = round((ln.x0 - left) / char_w) if char_w > 0 else 0
         text = ln.text.rstrip()
         lead = len(text) - len(text.lstrip())  # spaces the PDF kept as characters
         out.append(" " * max(0, min(indent + lead, 80)) + text.lstrip())

@@ -15,9 +15,7 @@ from typing import Any
 import pymupdf
 
 TEXT_FLAGS: int = (
-    pymupdf.TEXT_PRESERVE_WHITESPACE
-    | pymupdf.TEXT_MEDIABOX_CLIP
-    | pymupdf.TEXT_CID_FOR_UNKNOWN_UNICODE
+    pymupdf.TEXT_PRESERVE_WHITESPACE | pymupdf.TEXT_MEDIABOX_CLIP | pymupdf.TEXT_CID_FOR_UNKNOWN_UNICODE
 )
 """get_text flags: no images, ligatures expanded by MuPDF, text outside the page dropped."""
 VECTOR_FLAGS: int = TEXT_FLAGS | pymupdf.TEXT_COLLECT_VECTORS
@@ -181,7 +179,9 @@ def _style(font: str, flags: int) -> tuple[bool, bool, bool, bool]:
 def _piece(span: dict[str, Any]) -> Piece:
     bold, italic, mono, sup = _style(str(span.get("font", "")), int(span.get("flags", 0)))
     bbox = span["bbox"]
-    return Piece(normalise_text(span["text"]), bbox[0], bbox[2], span.get("size", 0.0), bold, italic, mono, sup)
+    return Piece(
+        normalise_text(span["text"]), bbox[0], bbox[2], span.get("size", 0.0), bold, italic, mono, sup
+    )
 
 
 def page_lines(

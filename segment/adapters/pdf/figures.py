@@ -79,7 +79,9 @@ def take_labels(lines: list[Line], boxes: list[Box], page: int) -> tuple[list[Li
         inside += [
             ln
             for ln in lines
-            if len(ln.text.split()) <= MAX_LABEL_WORDS and _within(ln, box, MARGIN) and not _within(ln, box, 2.0)
+            if len(ln.text.split()) <= MAX_LABEL_WORDS
+            and _within(ln, box, MARGIN)
+            and not _within(ln, box, 2.0)
         ]
         if len(inside) < 2:
             continue

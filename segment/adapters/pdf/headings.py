@@ -115,9 +115,7 @@ def is_candidate(item: Item, stats: FontStats) -> bool:
         return False
     if not larger and (words > 14 or len(item.first.lines) > 2):
         return False
-    if text.endswith(":") and not larger:
-        return False
-    return True
+    return not (text.endswith(":") and not larger)
 
 
 def _is_toc_entry(text: str) -> bool:
@@ -159,7 +157,9 @@ def detect(items: list[Item], stats: FontStats) -> None:
         if item.pages[0] in toc_pages and _ENDS_NUMBER.search(item.text.strip()):
             pending_label = False
             continue
-        if is_candidate(item, stats) or (pending_label and item.kind == "text" and len(item.text) <= MAX_CHARS):
+        if is_candidate(item, stats) or (
+            pending_label and item.kind == "text" and len(item.text) <= MAX_CHARS
+        ):
             chosen.append(item)
             if pending_label:
                 item.level = 1
@@ -304,9 +304,13 @@ def title_item(items: list[Item], metadata_title: str | None) -> Item | None:
         return None
     top = max(first_page, key=lambda i: i.size)
     others = [i.size for i in heads if i is not top]
-    if others and top.size >= max(others) + 2 and sum(1 for i in heads if style_of(i) == style_of(top)) == 1:
-        if top.first.lines[0].y0 < TITLE_TOP:
-            return top
+    if (
+        others
+        and top.size >= max(others) + 2
+        and sum(1 for i in heads if style_of(i) == style_of(top)) == 1
+        and top.first.lines[0].y0 < TITLE_TOP
+    ):
+        return top
     return None
 
 
@@ -319,7 +323,7 @@ def norm(text: str) -> str:
     text = _LABEL_PREFIX.sub("", text)
     m = _NUMBERING.match(text)
     if m:
-        text = text[m.end():]
+        text = text[m.end() :]
     return _NORM.sub(" ", text.casefold()).strip()
 
 

@@ -253,6 +253,4 @@ def _breaks(prev: Line, line: Line) -> bool:
         return abs(line.x0 - prev.x0) > 3 or line.y0 - prev.y1 > 0.5 * size
     if abs(prev.prose_size - line.prose_size) > 0.6:
         return True  # compared on the prose: a line full of smaller inline code is no break
-    if abs(prev.bold - line.bold) > 0.6 and (prev.bold > 0.9 or line.bold > 0.9):
-        return True
-    return False
+    return bool(abs(prev.bold - line.bold) > 0.6 and (prev.bold > 0.9 or line.bold > 0.9))

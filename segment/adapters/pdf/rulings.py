@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 
 import pymupdf
 
-from segment.adapters.pdf.extract import Box, Line
+from segment.adapters.pdf.extract import Line
 
 TOL = 2.0
 """Points within which rulings are taken to touch."""
@@ -152,14 +152,14 @@ def _inner_vertical(r: Rulings) -> bool:
                 continue
             if hx0 + 4 < x < hx1 - 4:
                 return True  # a rule crosses it
-            left = left or abs(hx1 - x) <= TOL and hx0 < x - 4
-            right = right or abs(hx0 - x) <= TOL and hx1 > x + 4
+            left = left or (abs(hx1 - x) <= TOL and hx0 < x - 4)
+            right = right or (abs(hx0 - x) <= TOL and hx1 > x + 4)
             if left and right:
                 return True  # cell borders drawn piece by piece meet on it
     return False
 
 
-def mark_framed(lines: list[Line], r: Rulings) -> None:  # noqa: C901
+def mark_framed(lines: list[Line], r: Rulings) -> None:
     """Flag lines inside a stroked rectangle ("boxed"): boxed notes, listings and one-column
     tables are never headings."""
     frames = list(r.frames)
@@ -247,10 +247,14 @@ def grid_boxes(r: Rulings) -> list[tuple[float, float, float, float]]:
     boxes = []
     for hs, vs in components(r):
         if hs and vs:
-            boxes.append((
-                min(r.h[i][1] for i in hs), min(r.v[j][1] for j in vs),
-                max(r.h[i][2] for i in hs), max(r.v[j][2] for j in vs),
-            ))
+            boxes.append(
+                (
+                    min(r.h[i][1] for i in hs),
+                    min(r.v[j][1] for j in vs),
+                    max(r.h[i][2] for i in hs),
+                    max(r.v[j][2] for j in vs),
+                )
+            )
     return boxes
 
 

@@ -360,9 +360,7 @@ def _rule_table(
     for band_no, (_, _, rows) in enumerate(run):
         for row in rows:
             words = [w for cell in row for w in cell]
-            cells = [
-                _cell_text([w for w in words if lo <= w.cx < hi]) for lo, hi in zip(bounds, bounds[1:])
-            ]
+            cells = [_cell_text([w for w in words if lo <= w.cx < hi]) for lo, hi in zip(bounds, bounds[1:])]
             box = (x0, min(w.y0 for w in words), x1, max(w.y1 for w in words))
             if parsed and not cells[0] and any(cells) and parsed[-1][2] == band_no:
                 # A wrapped cell: its continuation line joins the row above.
