@@ -17,7 +17,7 @@ import time
 from pathlib import Path
 
 import segment
-from daemon import Watcher, reconcile
+from segment.daemon import Watcher, reconcile
 from segment.settings import Settings
 
 CORPUS = Path(__file__).resolve().parents[1].parent / "shared" / "corpus" / "markdown"

@@ -94,7 +94,7 @@ def run_build(docs: list[tuple[str, bytes]], settings: Settings, out: Path) -> N
 
 
 def run_daemon(root: Path, settings: Settings, out: Path) -> None:
-    from daemon import reconcile
+    from segment.daemon import reconcile
 
     reconcile(root, out, settings, jobs=1, full=True)
 

@@ -43,7 +43,9 @@ def documents(formats: set[str]) -> list[Path]:
 
 def snapshot(path: Path, out: object) -> None:
     data = path.read_bytes()
-    name = path.relative_to(ROOT.parent).as_posix()
+    # Named from the source folder down, so that two checkouts in folders of other names agree.
+    root = next(r for r in SOURCES if path.is_relative_to(r))
+    name = f"{root.name}/{path.relative_to(root).as_posix()}"
     variants = (
         [parse_pdf(data, name), parse_pdf(data, name, use_outline=False)]
         if adapter_for(path).format == "pdf"

@@ -11,11 +11,11 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from daemon.feed import read_feed, replay
-from daemon.lock import OutputBusy
-from daemon.store import StatusReport, read_status
-from daemon.sync import SourceMissing, Syncer, SyncReport
-from daemon.watch import Watcher
+from segment.daemon.feed import read_feed, replay
+from segment.daemon.lock import OutputBusy
+from segment.daemon.store import StatusReport, read_status
+from segment.daemon.sync import SourceMissing, Syncer, SyncReport
+from segment.daemon.watch import Watcher
 from segment.settings import Settings
 
 

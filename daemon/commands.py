@@ -18,14 +18,14 @@ from typing import Any
 
 import click
 
-from daemon.lock import OutputBusy
-from daemon.store import read_status
-from daemon.sync import SourceMissing, Syncer
-from daemon.watch import WatchLoop
-from daemon.workers import WorkerStartError
+from segment.daemon.lock import OutputBusy
+from segment.daemon.store import read_status
+from segment.daemon.sync import SourceMissing, Syncer
+from segment.daemon.watch import WatchLoop
+from segment.daemon.workers import WorkerStartError
 from segment.settings import Settings
 
-log = logging.getLogger("daemon")
+log = logging.getLogger("segment.daemon")
 
 
 def _ensure_logging() -> None:

@@ -15,8 +15,8 @@ from pathlib import Path
 
 from watchdog.events import FileSystemEvent, FileSystemEventHandler
 
-from daemon.batching import FULL, Change
-from daemon.scope import COOKIE_PREFIX, Scope, is_litter
+from segment.daemon.batching import FULL, Change
+from segment.daemon.scope import COOKIE_PREFIX, Scope, is_litter
 
 log = logging.getLogger(__name__)
 

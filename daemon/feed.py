@@ -18,7 +18,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from daemon.durable import crashpoint
+from segment.daemon.durable import crashpoint
 
 FEED_NAME = "changes.jsonl"
 

@@ -21,7 +21,7 @@ from pathlib import Path
 
 import pathspec
 
-from daemon.store import StatSig
+from segment.daemon.store import StatSig
 from segment.adapters import is_supported
 from segment.settings import Settings
 

@@ -22,14 +22,14 @@ from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from daemon.chunkfiles import CHUNKS_DIR, chunk_name, read_ids
-from daemon.durable import crashpoint, fsync_dir, remove_temps, walk_files, write_if_changed
-from daemon.feed import Feed, FeedEntry, compensation, diff_ids, repair_tail
-from daemon.lock import OutputLock
-from daemon.report import SyncReport
-from daemon.scope import Scope, display_name
-from daemon.store import FileState, StatSig, Store
-from daemon.workers import Outcome, Task, WorkerPool, content_hash
+from segment.daemon.chunkfiles import CHUNKS_DIR, chunk_name, read_ids
+from segment.daemon.durable import crashpoint, fsync_dir, remove_temps, walk_files, write_if_changed
+from segment.daemon.feed import Feed, FeedEntry, compensation, diff_ids, repair_tail
+from segment.daemon.lock import OutputLock
+from segment.daemon.report import SyncReport
+from segment.daemon.scope import Scope, display_name
+from segment.daemon.store import FileState, StatSig, Store
+from segment.daemon.workers import Outcome, Task, WorkerPool, content_hash
 from segment.settings import Settings
 
 log = logging.getLogger(__name__)

@@ -28,8 +28,8 @@ from watchdog.events import FileSystemEvent
 from watchdog.observers import Observer
 from watchdog.observers.polling import PollingObserver
 
-from daemon.batching import FULL, Batch, Change, batches
-from daemon.events import (
+from segment.daemon.batching import FULL, Batch, Change, batches
+from segment.daemon.events import (
     OVERFLOW_LOGGER,
     EnqueueHandler,
     OverflowAlarm,
@@ -38,8 +38,8 @@ from daemon.events import (
     needs_polling,
     watch_limit_exceeded,
 )
-from daemon.scope import COOKIE_PREFIX
-from daemon.sync import SourceEmpty, SourceMissing, Syncer, SyncReport
+from segment.daemon.scope import COOKIE_PREFIX
+from segment.daemon.sync import SourceEmpty, SourceMissing, Syncer, SyncReport
 from segment.settings import Settings
 
 log = logging.getLogger(__name__)

@@ -25,7 +25,7 @@ from dataclasses import dataclass, field
 from multiprocessing.connection import Connection
 from typing import Any
 
-from daemon.store import StatSig
+from segment.daemon.store import StatSig
 from segment.errors import SegmentError
 from segment.settings import Settings
 
@@ -232,7 +232,7 @@ class WorkerPool:
         methods = multiprocessing.get_all_start_methods()
         self._ctx = multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
         if self._ctx.get_start_method() == "forkserver":
-            self._ctx.set_forkserver_preload(["daemon.workers"])
+            self._ctx.set_forkserver_preload(["segment.daemon.workers"])
         self._workers: list[_Worker] = []
         self._start_failures = 0
         self.replaced = 0

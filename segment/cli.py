@@ -62,7 +62,7 @@ def cli(verbose: int) -> None:
     level = logging.WARNING if verbose == 0 else logging.INFO if verbose == 1 else logging.DEBUG
     logging.basicConfig(stream=sys.stderr, level=level, format="%(levelname)s %(name)s: %(message)s")
     logging.getLogger("segment").setLevel(min(level, logging.INFO))
-    logging.getLogger("daemon").setLevel(min(level, logging.INFO))
+    logging.getLogger("segment.daemon").setLevel(min(level, logging.INFO))
 
 
 @cli.command("chunks")
@@ -112,7 +112,7 @@ def tree_command(file: Path) -> None:
 @settings_options
 def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) -> None:
     """Segment every supported file under SRC into OUT (incremental)."""
-    from daemon.commands import run_build
+    from segment.daemon.commands import run_build
 
     settings = _settings(src, kwargs)
     progress = sys.stderr.isatty()
@@ -133,7 +133,7 @@ def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) ->
 @settings_options
 def watch_command(src: Path, out: Path, jobs: int, quiet_ms: int, **kwargs: Any) -> None:
     """Build, then keep OUT in sync with SRC until stopped (Ctrl-C)."""
-    from daemon.commands import run_watch
+    from segment.daemon.commands import run_watch
 
     settings = _settings(src, kwargs)
     raise SystemExit(run_watch(src, out, settings, jobs=jobs, quiet_ms=quiet_ms))
@@ -144,7 +144,7 @@ def watch_command(src: Path, out: Path, jobs: int, quiet_ms: int, **kwargs: Any)
 @click.option("--json", "as_json", is_flag=True, help="Machine-readable output.")
 def status_command(out: Path, as_json: bool) -> None:
     """Files, chunks, failed files and the last feed sequence number of OUT."""
-    from daemon.commands import run_status
+    from segment.daemon.commands import run_status
 
     raise SystemExit(run_status(out, as_json=as_json))
 

@@ -194,6 +194,9 @@ class Document:
     root: Section = field(default_factory=Section)
     warnings: list[str] = field(default_factory=list)
     """What the adapter could not keep or had to guess, for the file's result (never silent)."""
+    properties: dict[str, Any] = field(default_factory=dict)
+    """The source's own declared properties (front matter, HTML meta, PDF document information):
+    JSON scalars or lists of scalars, nothing of ours. Filled by the adapters."""
 
     @property
     def sections(self) -> list[Section]:

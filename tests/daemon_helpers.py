@@ -9,7 +9,7 @@ import time
 from collections.abc import Callable
 from pathlib import Path
 
-from daemon.feed import replay
+from segment.daemon.feed import replay
 
 TOPICS = ["Battery care", "Flight logs", "Firmware updates", "Geofences", "Pilot roles", "Spare parts"]
 

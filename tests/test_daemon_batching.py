@@ -17,9 +17,9 @@ from watchdog.events import (
     FileOpenedEvent,
 )
 
-from daemon.batching import FULL, Batch, Change, batches
-from daemon.events import changes_of
-from daemon.scope import Scope
+from segment.daemon.batching import FULL, Batch, Change, batches
+from segment.daemon.events import changes_of
+from segment.daemon.scope import Scope
 from segment.settings import Settings
 
 
@@ -193,9 +193,9 @@ def test_content_events_and_folder_events_map_to_file_and_folder_hints(tmp_path:
 
 
 def test_a_storm_of_distinct_paths_becomes_one_full_reconcile() -> None:
-    import daemon.batching
+    import segment.daemon.batching
 
-    events = [(1.0 + i * 1e-4, f(f"storm/p{i}.md")) for i in range(daemon.batching.MAX_PATHS + 1)]
+    events = [(1.0 + i * 1e-4, f(f"storm/p{i}.md")) for i in range(segment.daemon.batching.MAX_PATHS + 1)]
     got = run(events)
     assert len(got) == 1
     assert got[0][1].full and got[0][1].files == []

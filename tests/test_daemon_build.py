@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from daemon import OutputBusy, Syncer, read_status, reconcile, replay
-from daemon.commands import run_build, run_status
+from segment.daemon import OutputBusy, Syncer, read_status, reconcile, replay
+from segment.daemon.commands import run_build, run_status
 from segment.settings import Settings
 from tests.daemon_helpers import (
     assert_feed_matches,
@@ -49,7 +49,7 @@ def test_a_second_build_of_an_unchanged_tree_re_segments_nothing_and_says_so(
     out = tmp_path / "out"
     assert run_build(src, out, Settings()) == 0
     before, seq = chunk_files(out), read_status(out).last_seq  # type: ignore[union-attr]
-    caplog.set_level(logging.INFO, logger="daemon")
+    caplog.set_level(logging.INFO, logger="segment.daemon")
     assert run_build(src, out, Settings()) == 0
     assert "re-segmented 0 files" in caplog.text
     assert chunk_files(out) == before
@@ -321,7 +321,7 @@ def test_a_feed_write_that_fails_halfway_is_undone_without_a_restart(
 def test_a_file_chunked_with_a_note_shows_it_in_status(tmp_path: Path) -> None:
     # Document.warnings reach the store and `segment status`: here bytes that are not UTF-8
     # (RELIABILITY P10), decoded as Windows-1252 and kept.
-    from daemon.store import read_status
+    from segment.daemon.store import read_status
 
     src, out = tmp_path / "docs", tmp_path / "out"
     src.mkdir()

@@ -18,7 +18,7 @@ from pathlib import Path
 
 import pytest
 
-from daemon import reconcile
+from segment.daemon import reconcile
 from tests.daemon_helpers import (
     assert_feed_matches,
     chunk_files,

@@ -12,8 +12,8 @@ from pathlib import Path
 
 import pytest
 
-from daemon import read_status, reconcile
-from daemon.workers import HOOKS_ENV, Task, WorkerPool, run_task
+from segment.daemon import read_status, reconcile
+from segment.daemon.workers import HOOKS_ENV, Task, WorkerPool, run_task
 from segment.settings import Settings
 from tests.daemon_helpers import assert_feed_matches, chunk_files, feed, page, write
 

@@ -19,7 +19,7 @@ from pathlib import Path
 
 import pytest
 
-from daemon import Watcher, reconcile
+from segment.daemon import Watcher, reconcile
 from segment.settings import Settings
 from tests.daemon_helpers import TOPICS, chunk_files, current_ids, page, write
 

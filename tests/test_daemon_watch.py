@@ -18,8 +18,8 @@ from pathlib import Path
 
 import pytest
 
-from daemon import Watcher, read_status, reconcile
-from daemon.events import EnqueueHandler
+from segment.daemon import Watcher, read_status, reconcile
+from segment.daemon.events import EnqueueHandler
 from segment.settings import Settings
 from tests.daemon_helpers import assert_feed_matches, chunk_files, feed, page, tree_of, wait_for, write
 
@@ -289,11 +289,11 @@ def test_a_write_error_while_watching_is_retried_by_a_full_reconcile(
     # RELIABILITY S4: ENOSPC while writing: old output kept, state `write_error`, then recovery.
     import errno
 
-    import daemon.sync
-    import daemon.watch
+    import segment.daemon.sync
+    import segment.daemon.watch
 
-    monkeypatch.setattr(daemon.watch, "WRITE_RETRY_S", 0.2)
-    real, calls = daemon.sync.write_if_changed, []
+    monkeypatch.setattr(segment.daemon.watch, "WRITE_RETRY_S", 0.2)
+    real, calls = segment.daemon.sync.write_if_changed, []
 
     def disk_full(path: Path, data: bytes) -> None:
         calls.append(path)
@@ -301,7 +301,7 @@ def test_a_write_error_while_watching_is_retried_by_a_full_reconcile(
             raise OSError(errno.ENOSPC, "No space left on device")
         real(path, data)
 
-    monkeypatch.setattr(daemon.sync, "write_if_changed", disk_full)
+    monkeypatch.setattr(segment.daemon.sync, "write_if_changed", disk_full)
     write(docs / "area0" / "page0.md", page("Spare parts", "Keep four spare rotors."))
     watcher.sync(20)  # released by the retry's full reconcile
     assert b"four spare rotors" in chunk_files(tmp_path / "out")["area0/page0.md.jsonl"]
@@ -313,9 +313,9 @@ def test_too_many_folders_for_inotify_fall_back_to_polling_and_say_so(
     docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     # RELIABILITY W2, portable variant: the watch budget check says "too many folders".
-    import daemon.watch
+    import segment.daemon.watch
 
-    monkeypatch.setattr(daemon.watch, "watch_limit_exceeded", lambda src: True)
+    monkeypatch.setattr(segment.daemon.watch, "watch_limit_exceeded", lambda src: True)
     out = tmp_path / "out"
     with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
         assert read_status(out).degraded == "watch_limit"  # type: ignore[union-attr]
@@ -330,10 +330,10 @@ def test_a_network_file_system_is_watched_by_polling(
     # RELIABILITY W12: inotify does not see other hosts' writes on NFS/CIFS; poll instead.
     from watchdog.observers.polling import PollingObserver
 
-    import daemon.events
+    import segment.daemon.events
 
-    assert daemon.events.fs_type(tmp_path) != ""  # read from /proc/self/mountinfo
-    monkeypatch.setattr(daemon.events, "fs_type", lambda path: "nfs4")
+    assert segment.daemon.events.fs_type(tmp_path) != ""  # read from /proc/self/mountinfo
+    monkeypatch.setattr(segment.daemon.events, "fs_type", lambda path: "nfs4")
     out = tmp_path / "out"
     with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
         assert isinstance(w.loop.observer, PollingObserver)  # type: ignore[union-attr]

@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from daemon.feed import Feed, FeedEntry, diff_ids, read_feed, replay
+from segment.daemon.feed import Feed, FeedEntry, diff_ids, read_feed, replay
 
 
 def test_a_file_diff_deletes_vanished_ids_upserts_new_ones_and_skips_kept_ones() -> None:
@@ -67,7 +67,7 @@ def test_replay_applies_upserts_and_deletes_as_set_operations(tmp_path: Path) ->
 
 
 def test_entries_written_past_the_last_commit_are_undone_at_restart(tmp_path: Path) -> None:
-    from daemon.feed import compensation
+    from segment.daemon.feed import compensation
 
     feed = Feed(tmp_path)
     feed.append([FeedEntry("upsert", "a.md", id="old")])  # committed: store says a.md -> [old]

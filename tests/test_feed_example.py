@@ -6,7 +6,7 @@ import json
 import sqlite3
 from pathlib import Path
 
-from daemon import reconcile
+from segment.daemon import reconcile
 from tests.daemon_helpers import current_ids, page, write
 
 

@@ -19,7 +19,7 @@ from typing import Any
 
 import pytest
 
-from daemon import Watcher, read_status
+from segment.daemon import Watcher, read_status
 from segment.settings import Settings
 from tests import hostile
 from tests.daemon_helpers import assert_feed_matches, chunk_files, current_ids, feed

@@ -16,10 +16,10 @@ from pathlib import Path
 
 import pytest
 
-from daemon import read_status, reconcile
-from daemon.scope import Scope
-from daemon.sync import Syncer
-from daemon.workers import Task, run_task
+from segment.daemon import read_status, reconcile
+from segment.daemon.scope import Scope
+from segment.daemon.sync import Syncer
+from segment.daemon.workers import Task, run_task
 from segment.settings import Settings
 from tests import hostile
 from tests.daemon_helpers import assert_feed_matches, chunk_files, current_ids, feed, page, write

@@ -19,10 +19,10 @@ import pytest
 from watchdog.observers import Observer
 from watchdog.observers.polling import PollingObserver
 
-import daemon.events as events
-import daemon.watch as watch
-from daemon import Watcher, read_status, reconcile
-from daemon.commands import run_build
+import segment.daemon.events as events
+import segment.daemon.watch as watch
+from segment.daemon import Watcher, read_status, reconcile
+from segment.daemon.commands import run_build
 from segment.settings import Settings
 from tests.daemon_helpers import (
     assert_feed_matches,

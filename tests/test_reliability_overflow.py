@@ -20,7 +20,7 @@ from typing import Any
 
 import pytest
 
-from daemon import reconcile
+from segment.daemon import reconcile
 from tests.daemon_helpers import assert_feed_matches, chunk_files
 
 FILES = 10_000

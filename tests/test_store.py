@@ -5,7 +5,7 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from daemon.store import RACY_WINDOW_NS, FileState, StatSig, Store, read_status
+from segment.daemon.store import RACY_WINDOW_NS, FileState, StatSig, Store, read_status
 
 SIG = StatSig(size=10, mtime_ns=1_000_000_000_000, ctime_ns=1_000_000_000_000, ino=7, dev=1)
 
