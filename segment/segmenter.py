@@ -19,10 +19,9 @@ from dataclasses import dataclass, field
 from segment.chunk import Chunk, chunk_id, normalise_text
 from segment.errors import SegmentError
 from segment.gcpause import paused_gc
-from segment.render import render_block
+from segment.kinds import render_block, splitter
 from segment.sentences import split_sentences
 from segment.settings import Settings
-from segment.split import Splitter
 from segment.tokens import TokenCounter, counter_for
 from segment.tree import Block, BlockKind, Document, Section, Span, merge_spans
 
@@ -73,7 +72,7 @@ class Segmenter:
     def __init__(self, settings: Settings, counter: TokenCounter | None = None) -> None:
         self.settings = settings
         self.counter = counter or counter_for(settings.tokenizer)
-        self.splitter = Splitter(self.counter, settings.language)
+        self.splitter = splitter(self.counter, settings.language)
         self.budget = settings.max_tokens - settings.overlap_tokens
         self._key = 0
         self._intros: dict[int, list[Piece]] = {}

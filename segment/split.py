@@ -9,15 +9,17 @@ Only a table row that cannot fit even alone (with its header) makes an over-budg
 from __future__ import annotations
 
 from bisect import bisect_right
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from functools import partial
+from typing import TYPE_CHECKING
 
 from segment.render import (
     INDENT,
+    closing_fence,
     code_fence,
     item_marker,
     quote_label,
-    render_block,
     render_definition,
     render_item,
     render_row,
@@ -27,6 +29,7 @@ from segment.sentences import split_sentences
 from segment.tokens import TokenCounter
 from segment.tree import (
     Block,
+    BlockKind,
     Code,
     Definition,
     DefinitionList,
@@ -36,6 +39,9 @@ from segment.tree import (
     Span,
     Table,
 )
+
+if TYPE_CHECKING:
+    from segment.kinds import KindRules
 
 
 @dataclass(slots=True)
@@ -62,9 +68,11 @@ class _Unit:
 class Splitter:
     """Splits blocks under a counter and a language; one instance per document run."""
 
-    def __init__(self, counter: TokenCounter, language: str) -> None:
+    def __init__(self, counter: TokenCounter, language: str, rules: Mapping[BlockKind, KindRules]) -> None:
         self.counter = counter
         self.language = language
+        self.rules = rules
+        """The rules of every block kind (`segment.kinds.RULES`)."""
 
     def count(self, text: str) -> int:
         """Tokens of `text` under the run's counter."""
@@ -73,36 +81,11 @@ class Splitter:
     def split(self, block: Block, first_budget: int, budget: int) -> list[Part]:
         """Parts of `block`; the first fits `first_budget` (the room left in the current chunk),
         the others `budget`. The first part is empty-text when nothing fits the first budget."""
-        if isinstance(block, Table):
-            prefix = "\n".join(table_prefix(block))
-            units = [_Unit(render_row(r), r.span) for r in block.rows]
-            return self._pack(units, "\n", prefix, "", first_budget, budget, block.span, rows=True)
-        if isinstance(block, ListBlock):
-            units = [
-                _Unit(render_item(block, i), it.span, lambda room, b=block, k=i: self._item_units(b, k, room))
-                for i, it in enumerate(block.items)
-            ]
-            return self._pack(units, "\n", "", "", first_budget, budget, block.span)
-        if isinstance(block, Code):
-            units = [_Unit(line, _code_line_span(block, i)) for i, line in enumerate(block.lines)]
-            return self._pack(units, "\n", code_fence(block), "```", first_budget, budget, block.span)
-        if isinstance(block, Quote):
-            units = [
-                _Unit(render_block(b), b.span, lambda room, b=b: self._block_units(b, room))
-                for b in block.blocks
-            ]
-            return self._pack(
-                units, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span
-            )
-        if isinstance(block, DefinitionList):
-            units = [
-                _Unit(render_definition(d), d.span, lambda room, d=d: self._definition_units(d, room))
-                for d in block.items
-            ]
-            return self._pack(units, "\n", "", "", first_budget, budget, block.span)
-        if isinstance(block, Paragraph):
-            return self.split_text(block.text, block.span, first_budget, budget, block.line_starts)
-        raise TypeError(f"not a block: {type(block).__name__}")
+        return self.rules[block.kind].split(self, block, first_budget, budget)
+
+    def render(self, block: Block) -> str:
+        """The whole text of `block`, as its kind's rule renders it."""
+        return self.rules[block.kind].render(block, self.render)
 
     def split_text(
         self, text: str, span: Span, first_budget: int, budget: int, line_starts: list[int] | None = None
@@ -125,12 +108,13 @@ class Splitter:
             else:
                 gap += raw
             offset += len(raw)
-        return self._pack(units, " ", "", "", first_budget, budget, span)
+        return self.pack(units, " ", "", "", first_budget, budget, span)
 
-    def _block_units(self, block: Block, room: int) -> list[_Unit]:
+    def block_units(self, block: Block, room: int) -> list[_Unit]:
+        """`block` as parts that fit `room` each."""
         return [_Unit(p.text, p.span) for p in self.split(block, room, room)]
 
-    def _item_units(self, block: ListBlock, index: int, room: int) -> list[_Unit]:
+    def item_units(self, block: ListBlock, index: int, room: int) -> list[_Unit]:
         """An over-budget list item cut along its own blocks; the marker leads, the rest indented."""
         marker = item_marker(block, index)
         pad = " " * len(marker)
@@ -156,7 +140,7 @@ class Splitter:
             shrink = max(shrink * 2, shrink + over)  # parts move a whole line at a time
         return [_Unit(t, p.span) for t, p in zip(texts, parts)]
 
-    def _definition_units(self, item: Definition, room: int) -> list[_Unit]:
+    def definition_units(self, item: Definition, room: int) -> list[_Unit]:
         """An over-budget definition cut along its blocks; the terms stay with the first part."""
         units: list[_Unit] = []
         head = "; ".join(item.terms)
@@ -167,7 +151,7 @@ class Splitter:
                 units.append(_Unit(f"{head}\n{text}" if not units else text, part.span))
         return units or [_Unit(head, item.span)]
 
-    def _pack(
+    def pack(
         self,
         units: list[_Unit],
         joiner: str,
@@ -332,3 +316,56 @@ def _text_span(span: Span, line_starts: list[int] | None, start: int, end: int) 
     first = span.lines[0] + bisect_right(line_starts, start)
     last = span.lines[0] + bisect_right(line_starts, max(end - 1, start))
     return Span(lines=(first, min(last, span.lines[1])), pages=span.pages, bbox=span.bbox)
+
+
+# ----- the splitting rule of each block kind (keyed by kind in segment.kinds) ---------------------
+
+
+def split_paragraph(splitter: Splitter, block: Paragraph, first_budget: int, budget: int) -> list[Part]:
+    """Between sentences, then words, then characters."""
+    return splitter.split_text(block.text, block.span, first_budget, budget, block.line_starts)
+
+
+def split_list(splitter: Splitter, block: ListBlock, first_budget: int, budget: int) -> list[Part]:
+    """Between items; an item over budget along its own blocks, the marker leading."""
+    units = [
+        _Unit(
+            render_item(block, i, splitter.render),
+            item.span,
+            partial(splitter.item_units, block, i),
+        )
+        for i, item in enumerate(block.items)
+    ]
+    return splitter.pack(units, "\n", "", "", first_budget, budget, block.span)
+
+
+def split_table(splitter: Splitter, block: Table, first_budget: int, budget: int) -> list[Part]:
+    """Between rows, with the caption and header at the top of every part."""
+    prefix = "\n".join(table_prefix(block))
+    units = [_Unit(render_row(r), r.span) for r in block.rows]
+    return splitter.pack(units, "\n", prefix, "", first_budget, budget, block.span, rows=True)
+
+
+def split_code(splitter: Splitter, block: Code, first_budget: int, budget: int) -> list[Part]:
+    """Between lines, every part fenced."""
+    units = [_Unit(line, _code_line_span(block, i)) for i, line in enumerate(block.lines)]
+    return splitter.pack(
+        units, "\n", code_fence(block), closing_fence(block), first_budget, budget, block.span
+    )
+
+
+def split_quote(splitter: Splitter, block: Quote, first_budget: int, budget: int) -> list[Part]:
+    """Between the quoted blocks, the label leading the first part."""
+    units = [_Unit(splitter.render(b), b.span, partial(splitter.block_units, b)) for b in block.blocks]
+    return splitter.pack(units, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span)
+
+
+def split_definitions(
+    splitter: Splitter, block: DefinitionList, first_budget: int, budget: int
+) -> list[Part]:
+    """Between entries; an entry over budget along its definitions, the terms leading."""
+    units = [
+        _Unit(render_definition(d, splitter.render), d.span, partial(splitter.definition_units, d))
+        for d in block.items
+    ]
+    return splitter.pack(units, "\n", "", "", first_budget, budget, block.span)

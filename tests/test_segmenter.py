@@ -269,3 +269,17 @@ def test_a_hand_built_tree_nested_too_deeply_is_a_clear_error() -> None:
         block = ListBlock(items=[ListItem([block])])  # type: ignore[list-item]
     with pytest.raises(SegmentError, match="nested too deeply"):
         list(chunk(doc(section("Deep", 1, block)), Settings()))
+
+
+def test_every_block_kind_has_one_row_of_rules() -> None:
+    """Adding a kind is one row in segment.kinds.RULES: each row names the node class whose
+    blocks carry that kind, and every kind of block (headings aside) has a row."""
+    from dataclasses import fields
+
+    from segment.kinds import RULES
+    from segment.tree import BlockKind
+
+    assert set(RULES) == set(BlockKind) - {BlockKind.HEADING}
+    for kind, rules in RULES.items():
+        default = next(f.default for f in fields(rules.node) if f.name == "kind")
+        assert default == kind, (kind, rules.node)
