@@ -10,6 +10,7 @@ from segment.chunk import Chunk
 from segment.errors import ParseError, SegmentError, TooLarge
 from segment.gcpause import paused_gc
 from segment.settings import Settings
+from segment.tokens import Counter
 from segment.tree import Document
 
 
@@ -52,11 +53,17 @@ def parse(path: str | Path, settings: Settings | None = None, source: str | None
     return parse_bytes(read_source(path, settings), name, settings)
 
 
-def chunk(document: Document, settings: Settings | None = None) -> Iterator[Chunk]:
-    """Cut a parsed document into chunks under the settings' token budget."""
+def chunk(
+    document: Document, settings: Settings | None = None, counter: Counter | None = None
+) -> Iterator[Chunk]:
+    """Cut a parsed document into chunks under the settings' token budget.
+
+    `counter` counts tokens: an object with `count(text) -> int` (see `segment.tokens`) or any
+    `str -> int` function, e.g. an embedding model's own tokenizer; by default, the counter the
+    settings name (`tokenizer`, else the built-in estimator)."""
     from segment.segmenter import segment_document
 
-    return iter(segment_document(document, settings or Settings()))
+    return iter(segment_document(document, settings or Settings(), counter))
 
 
 def chunk_file(path: str | Path, settings: Settings | None = None, source: str | None = None) -> list[Chunk]:

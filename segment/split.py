@@ -55,14 +55,17 @@ class Part:
 
 
 @dataclass(slots=True)
-class _Unit:
+class Fragment:
+    """The smallest text the packer moves whole: a table row, a list item, a code line, a
+    sentence, a run of words. Parts are made of fragments."""
+
     text: str
     span: Span
-    expand: Callable[[int], list[_Unit]] | None = None
-    """For a unit with structure inside (a list item, a quoted block): smaller units, each fitting
+    expand: Callable[[int], list[Fragment]] | None = None
+    """For a fragment with structure inside (a list item, a quoted block): smaller fragments, each fitting
     the given room where possible, that keep that structure."""
     sep: str | None = None
-    """What goes before this unit when it follows another in a part (default: the joiner)."""
+    """What goes before this fragment when it follows another in a part (default: the joiner)."""
 
 
 class Splitter:
@@ -91,7 +94,7 @@ class Splitter:
         self, text: str, span: Span, first_budget: int, budget: int, line_starts: list[int] | None = None
     ) -> list[Part]:
         """Running text cut between sentences (then words, then characters)."""
-        units: list[_Unit] = []
+        fragments: list[Fragment] = []
         offset = 0
         gap = ""  # the whitespace between the previous sentence and this one, as in the source
         for raw in split_sentences(text, self.language):
@@ -101,31 +104,31 @@ class Splitter:
                 gap += raw[:lead]
                 start = offset + lead
                 sep = "" if not gap else "\n" if "\n" in gap else " "
-                units.append(
-                    _Unit(stripped, _text_span(span, line_starts, start, start + len(stripped)), sep=sep)
+                fragments.append(
+                    Fragment(stripped, _text_span(span, line_starts, start, start + len(stripped)), sep=sep)
                 )
                 gap = raw[lead + len(stripped) :]
             else:
                 gap += raw
             offset += len(raw)
-        return self.pack(units, " ", "", "", first_budget, budget, span)
+        return self.pack(fragments, " ", "", "", first_budget, budget, span)
 
-    def block_units(self, block: Block, room: int) -> list[_Unit]:
+    def block_fragments(self, block: Block, room: int) -> list[Fragment]:
         """`block` as parts that fit `room` each."""
-        return [_Unit(p.text, p.span) for p in self.split(block, room, room)]
+        return [Fragment(p.text, p.span) for p in self.split(block, room, room)]
 
-    def item_units(self, block: ListBlock, index: int, room: int) -> list[_Unit]:
+    def item_fragments(self, block: ListBlock, index: int, room: int) -> list[Fragment]:
         """An over-budget list item cut along its own blocks; the marker leads, the rest indented."""
         marker = item_marker(block, index)
         pad = " " * len(marker)
-        units: list[_Unit] = []
+        fragments: list[Fragment] = []
         for b in block.items[index].blocks:
             # Only the first part carries the marker; later parts are merely indented.
-            first = room - self.count(marker) if not units else room
-            units += self._indented_parts(b, first, room, marker if not units else pad, pad)
-        return units
+            first = room - self.count(marker) if not fragments else room
+            fragments += self._indented_parts(b, first, room, marker if not fragments else pad, pad)
+        return fragments
 
-    def _indented_parts(self, block: Block, first: int, room: int, lead: str, pad: str) -> list[_Unit]:
+    def _indented_parts(self, block: Block, first: int, room: int, lead: str, pad: str) -> list[Fragment]:
         """Parts of `block` with their lines indented, each fitting `room` once indented.
 
         Counters that charge for spaces (byte-level BPE) make indented text dearer: the parts are
@@ -138,22 +141,22 @@ class Splitter:
             if over <= 0:
                 break
             shrink = max(shrink * 2, shrink + over)  # parts move a whole line at a time
-        return [_Unit(t, p.span) for t, p in zip(texts, parts)]
+        return [Fragment(t, p.span) for t, p in zip(texts, parts)]
 
-    def definition_units(self, item: Definition, room: int) -> list[_Unit]:
+    def definition_fragments(self, item: Definition, room: int) -> list[Fragment]:
         """An over-budget definition cut along its blocks; the terms stay with the first part."""
-        units: list[_Unit] = []
+        fragments: list[Fragment] = []
         head = "; ".join(item.terms)
         inner = max(room - self.count(head), 1)
         for b in item.blocks:
             for part in self.split(b, inner, inner):
                 text = _indent(part.text, INDENT, INDENT)
-                units.append(_Unit(f"{head}\n{text}" if not units else text, part.span))
-        return units or [_Unit(head, item.span)]
+                fragments.append(Fragment(f"{head}\n{text}" if not fragments else text, part.span))
+        return fragments or [Fragment(head, item.span)]
 
     def pack(
         self,
-        units: list[_Unit],
+        fragments: list[Fragment],
         joiner: str,
         prefix: str,
         suffix: str,
@@ -162,25 +165,25 @@ class Splitter:
         span: Span,
         rows: bool = False,
     ) -> list[Part]:
-        """Greedy packing of units between a repeated prefix and suffix.
+        """Greedy packing of fragments between a repeated prefix and suffix.
 
         Invariant: every part's real count fits its budget (the first part `first_budget`, the
-        others `budget`), except a lone table row flagged `oversize`. Sums of unit counts decide
+        others `budget`), except a lone table row flagged `oversize`. Sums of fragment counts decide
         tentatively; the joined text is counted again on closing a part, since subword counts are
-        not always additive, and the last unit goes back to the queue when it went over.
+        not always additive, and the last fragment goes back to the queue when it went over.
         """
         # What the prefix and suffix add around a body, joins included (a byte-level BPE counts
         # the newlines too): the cost of a framed one-letter body less that of the letter.
         frame = (
-            self.count(self._join([_Unit("x", span)], joiner, prefix, suffix)) - self.count("x")
+            self.count(self._join([Fragment("x", span)], joiner, prefix, suffix)) - self.count("x")
             if prefix or suffix
             else 0
         )
         parts: list[Part] = []
-        current: list[_Unit] = []
+        current: list[Fragment] = []
         used = frame
         limit = first_budget
-        queue = list(reversed(units))
+        queue = list(reversed(fragments))
 
         def close() -> None:
             nonlocal current, used, limit
@@ -196,13 +199,13 @@ class Splitter:
                 elif rows:  # a lone row that does not fit even with its header
                     part.oversize = True
                     parts.append(part)
-                else:  # a lone unit that went over once framed (rounding): cut it smaller
+                else:  # a lone fragment that went over once framed (rounding): cut it smaller
                     excess = part.tokens - limit
                     pieces = self._break(
                         current[0].text, max(limit - frame - excess, 1), max(budget - frame - excess, 1)
                     )
                     if len(pieces) > 1:
-                        queue.extend(reversed([_Unit(p, current[0].span) for p in pieces]))
+                        queue.extend(reversed([Fragment(p, current[0].span) for p in pieces]))
                     else:
                         parts.append(part)  # unbreakable: it goes alone
                 break
@@ -210,41 +213,41 @@ class Splitter:
 
         while queue or current:
             if not queue:
-                close()  # may hand units back to the queue, and then the loop goes on
+                close()  # may hand fragments back to the queue, and then the loop goes on
                 continue
-            unit = queue.pop()
-            cost = self.count(unit.text)
+            fragment = queue.pop()
+            cost = self.count(fragment.text)
             if used + cost <= limit:
-                current.append(unit)
+                current.append(fragment)
                 used += cost
                 continue
             fits_fresh = frame + cost <= budget
             if current or (limit < budget and (fits_fresh or limit - frame < budget // 4)):
-                queue.append(unit)  # before close(): units it hands back go on top, in order
+                queue.append(fragment)  # before close(): fragments it hands back go on top, in order
                 close()
                 limit = budget
                 continue
-            # The unit alone is over the room it has, in an empty part.
+            # The fragment alone is over the room it has, in an empty part.
             if rows:
-                text = self._join([unit], joiner, prefix, suffix)
-                parts.append(Part(text, self.count(text), unit.span, oversize=True))
+                text = self._join([fragment], joiner, prefix, suffix)
+                parts.append(Part(text, self.count(text), fragment.span, oversize=True))
                 limit = budget
                 continue
-            if unit.expand is not None:
-                smaller = unit.expand(max(budget - frame, 1))
+            if fragment.expand is not None:
+                smaller = fragment.expand(max(budget - frame, 1))
                 if len(smaller) > 1:
                     queue.extend(reversed(smaller))
                     continue
-            pieces = self._break(unit.text, max(limit - frame, 1), max(budget - frame, 1))
+            pieces = self._break(fragment.text, max(limit - frame, 1), max(budget - frame, 1))
             if len(pieces) == 1:  # cannot be broken further: it goes alone
-                current.append(unit)
+                current.append(fragment)
                 close()
                 continue
-            queue.extend(reversed([_Unit(p, unit.span) for p in pieces]))
+            queue.extend(reversed([Fragment(p, fragment.span) for p in pieces]))
         return parts
 
     def _break(self, text: str, first_room: int, room: int) -> list[str]:
-        """An over-budget unit as smaller texts: sentences, else words, else characters."""
+        """An over-budget fragment as smaller texts: sentences, else words, else characters."""
         sentences = [s.strip() for s in split_sentences(text, self.language) if s.strip()]
         if len(sentences) > 1:
             return sentences
@@ -285,14 +288,16 @@ class Splitter:
             limit = max(room, 1)
         return out
 
-    def _join(self, units: list[_Unit], joiner: str, prefix: str, suffix: str) -> str:
-        body = units[0].text + "".join((joiner if u.sep is None else u.sep) + u.text for u in units[1:])
+    def _join(self, fragments: list[Fragment], joiner: str, prefix: str, suffix: str) -> str:
+        body = fragments[0].text + "".join(
+            (joiner if u.sep is None else u.sep) + u.text for u in fragments[1:]
+        )
         return "\n".join(x for x in (prefix, body, suffix) if x)
 
-    def _make(self, units: list[_Unit], joiner: str, prefix: str, suffix: str, span: Span) -> Part:
-        text = self._join(units, joiner, prefix, suffix)
-        merged = units[0].span
-        for u in units[1:]:
+    def _make(self, fragments: list[Fragment], joiner: str, prefix: str, suffix: str, span: Span) -> Part:
+        text = self._join(fragments, joiner, prefix, suffix)
+        merged = fragments[0].span
+        for u in fragments[1:]:
             merged = merged.merge(u.span)
         return Part(text, self.count(text), merged)
 
@@ -328,44 +333,46 @@ def split_paragraph(splitter: Splitter, block: Paragraph, first_budget: int, bud
 
 def split_list(splitter: Splitter, block: ListBlock, first_budget: int, budget: int) -> list[Part]:
     """Between items; an item over budget along its own blocks, the marker leading."""
-    units = [
-        _Unit(
+    fragments = [
+        Fragment(
             render_item(block, i, splitter.render),
             item.span,
-            partial(splitter.item_units, block, i),
+            partial(splitter.item_fragments, block, i),
         )
         for i, item in enumerate(block.items)
     ]
-    return splitter.pack(units, "\n", "", "", first_budget, budget, block.span)
+    return splitter.pack(fragments, "\n", "", "", first_budget, budget, block.span)
 
 
 def split_table(splitter: Splitter, block: Table, first_budget: int, budget: int) -> list[Part]:
     """Between rows, with the caption and header at the top of every part."""
     prefix = "\n".join(table_prefix(block))
-    units = [_Unit(render_row(r), r.span) for r in block.rows]
-    return splitter.pack(units, "\n", prefix, "", first_budget, budget, block.span, rows=True)
+    fragments = [Fragment(render_row(r), r.span) for r in block.rows]
+    return splitter.pack(fragments, "\n", prefix, "", first_budget, budget, block.span, rows=True)
 
 
 def split_code(splitter: Splitter, block: Code, first_budget: int, budget: int) -> list[Part]:
     """Between lines, every part fenced."""
-    units = [_Unit(line, _code_line_span(block, i)) for i, line in enumerate(block.lines)]
+    fragments = [Fragment(line, _code_line_span(block, i)) for i, line in enumerate(block.lines)]
     return splitter.pack(
-        units, "\n", code_fence(block), closing_fence(block), first_budget, budget, block.span
+        fragments, "\n", code_fence(block), closing_fence(block), first_budget, budget, block.span
     )
 
 
 def split_quote(splitter: Splitter, block: Quote, first_budget: int, budget: int) -> list[Part]:
     """Between the quoted blocks, the label leading the first part."""
-    units = [_Unit(splitter.render(b), b.span, partial(splitter.block_units, b)) for b in block.blocks]
-    return splitter.pack(units, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span)
+    fragments = [
+        Fragment(splitter.render(b), b.span, partial(splitter.block_fragments, b)) for b in block.blocks
+    ]
+    return splitter.pack(fragments, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span)
 
 
 def split_definitions(
     splitter: Splitter, block: DefinitionList, first_budget: int, budget: int
 ) -> list[Part]:
     """Between entries; an entry over budget along its definitions, the terms leading."""
-    units = [
-        _Unit(render_definition(d, splitter.render), d.span, partial(splitter.definition_units, d))
+    fragments = [
+        Fragment(render_definition(d, splitter.render), d.span, partial(splitter.definition_fragments, d))
         for d in block.items
     ]
-    return splitter.pack(units, "\n", "", "", first_budget, budget, block.span)
+    return splitter.pack(fragments, "\n", "", "", first_budget, budget, block.span)

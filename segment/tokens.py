@@ -92,12 +92,34 @@ class TokenizerFileCounter:
 class CallableCounter:
     """Wraps any `str -> int` function (e.g. a model's own tokenizer) as a counter."""
 
+    additive = False
+    """Nothing is known of the function: packed chunks are counted again as a whole."""
+
     def __init__(self, fn: Callable[[str], int], name: str = "callable") -> None:
         self._fn = fn
         self.name = name
 
     def count(self, text: str) -> int:
         return int(self._fn(text))
+
+
+Counter = TokenCounter | Callable[[str], int]
+"""What `segment.chunk` accepts as a counter: a counter object or a `str -> int` function."""
+
+
+def as_counter(counter: Counter) -> TokenCounter:
+    """A counter object for `counter`; a plain function is wrapped in a `CallableCounter`."""
+    if isinstance(counter, TokenCounter):
+        return counter
+    if callable(counter):
+        return CallableCounter(counter)
+    raise TypeError(f"not a token counter: {type(counter).__name__} (need .count(text) or a function)")
+
+
+def is_additive(counter: TokenCounter) -> bool:
+    """Whether joining texts with whitespace never counts more than the sum of their counts
+    (a counter says so with `additive = True`; otherwise packed chunks are counted again)."""
+    return bool(getattr(counter, "additive", False))
 
 
 @lru_cache(maxsize=8)

@@ -32,8 +32,8 @@ except ImportError:  # pragma: no cover
 DEMO = Path(__file__).resolve().parents[1] / "fixtures" / "demo"
 BUDGETS = (256, 512)
 
-# Checks that fail on the current code, each with the finding that explains it (written up with a
-# minimal repro in the notes for the Markdown adapter and segmenter). Remove an entry when fixed:
+# Checks that fail on the current code, each with the reason in words (and a minimal repro as a
+# strict xfail in this file). Remove an entry when fixed:
 # the marks are strict, so a check that starts passing fails until its entry goes.
 KNOWN_FAILURES: dict[tuple[str, int], str] = {}
 
@@ -73,7 +73,7 @@ def test_demo_docs_pass_every_check(name: str, max_tokens: int) -> None:
 
 @pytest.mark.xfail(
     strict=True,
-    reason="F10: parts of a sentence cut between words all carry the sentence's whole line range "
+    reason="parts of a sentence cut between words all carry the sentence's whole line range "
     "(the demo docs at 32 and 64 tokens show it on every page)",
 )
 def test_word_split_parts_point_at_their_own_lines(tmp_path: Path) -> None:
@@ -90,7 +90,7 @@ def test_word_split_parts_point_at_their_own_lines(tmp_path: Path) -> None:
     assert chunks[1].lines[0] >= chunks[0].lines[1] and chunks[1].lines[0] == 3, [c.lines for c in chunks]
 
 
-# F12 (fixed): the last sentence sent back to the queue by a part closing over budget was lost.
+# Regression test: the last sentence sent back to the queue by a part closing over budget was once lost.
 def test_no_sentence_is_lost_from_a_paragraph_with_a_typographic_apostrophe(tmp_path: Path) -> None:
     ascii_sentence = "When the number of nodes is low and the number of pods is high, sidecars might make more sense for you."
     last = "You\u2019ll get better load balancing."
@@ -102,7 +102,7 @@ def test_no_sentence_is_lost_from_a_paragraph_with_a_typographic_apostrophe(tmp_
 
 @pytest.mark.xfail(
     strict=True,
-    reason="F13: a sentence that fits a chunk on its own is cut between words when it follows a "
+    reason="a sentence that fits a chunk on its own is cut between words when it follows a "
     "short sentence that leaves too little room (found by tests/test_properties.py)",
 )
 def test_a_sentence_that_fits_is_not_cut_between_words(tmp_path: Path) -> None:

@@ -9,7 +9,6 @@ import pytest
 
 from segment import chunk
 from segment.chunk import Chunk
-from segment.segmenter import Segmenter
 from segment.settings import Settings
 from segment.tokens import CallableCounter
 from segment.tree import (
@@ -51,7 +50,7 @@ def doc(*sections: Section, title: str | None = "Guide", blocks: list[object] | 
 
 def run(document: Document, **settings: object) -> list[Chunk]:
     values = {"max_tokens": 50, "min_tokens": 0} | settings
-    return Segmenter(Settings(**values), counter=WORDS).segment(document)  # type: ignore[arg-type]
+    return list(chunk(document, Settings(**values), counter=WORDS))  # type: ignore[arg-type]
 
 
 def test_a_section_that_fits_is_one_chunk_with_its_subsections() -> None:
@@ -283,3 +282,15 @@ def test_every_block_kind_has_one_row_of_rules() -> None:
     for kind, rules in RULES.items():
         default = next(f.default for f in fields(rules.node) if f.name == "kind")
         assert default == kind, (kind, rules.node)
+
+
+def test_any_counter_goes_to_the_public_api() -> None:
+    """`segment.chunk` takes a counter object or a plain `str -> int` function alike."""
+    tree = doc(section("Setup", 1, Paragraph(words(80))))
+    settings = Settings(max_tokens=50, min_tokens=0)
+    by_object = list(chunk(tree, settings, counter=WORDS))
+    by_function = list(chunk(tree, settings, counter=lambda text: len(text.split())))
+    assert [c.to_json() for c in by_function] == [c.to_json() for c in by_object]
+    assert len(by_object) == 2 and all(c.tokens <= 50 for c in by_object)
+    with pytest.raises(TypeError, match="not a token counter"):
+        list(chunk(tree, settings, counter=42))  # type: ignore[arg-type]
