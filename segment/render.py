@@ -6,6 +6,7 @@ other blocks render them without knowing their kinds); `segment.kinds` keys the 
 
 from __future__ import annotations
 
+import re
 from collections.abc import Callable
 
 from segment.tree import (
@@ -104,13 +105,30 @@ def table_prefix(table: Table) -> list[str]:
 
 
 def code_fence(code: Code) -> str:
-    """Opening fence with the language, if known."""
-    return "```" + (code.language or "")
+    """Opening fence with the language, if known.
+
+    CommonMark 0.31.2, section 4.5 "Fenced code blocks": a block closes at the first line holding
+    a run of the fence character at least as long as the opening fence, and a backtick fence's
+    info string may not contain a backtick. So the fence is one longer than the longest run of
+    its character in the lines (at least three), and tildes when the language holds a backtick."""
+    char = "~" if code.language and "`" in code.language else "`"
+    return _fence(code, char) + (code.language or "")
 
 
 def closing_fence(code: Code) -> str:
     """The fence that closes `code_fence(code)`."""
-    return "```"
+    return _fence(code, "~" if code.language and "`" in code.language else "`")
+
+
+def _fence(code: Code, char: str) -> str:
+    longest = 0
+    for line in code.lines:
+        if char * 3 in line:
+            longest = max(longest, *(len(run) for run in _RUNS[char].findall(line)))
+    return char * max(3, longest + 1)
+
+
+_RUNS = {"`": re.compile("`{3,}"), "~": re.compile("~{3,}")}
 
 
 def quote_label(quote: Quote) -> str:

@@ -65,6 +65,13 @@ class _WholeSection:
     tokens: int
     breadcrumb: list[str]
     anchor: str | None
+    intro: bool = False
+    """The section's own heading and blocks, before its children."""
+
+
+def _bare_heading(whole: _WholeSection) -> bool:
+    """A section's intro that is its heading alone (its children follow)."""
+    return whole.intro and len(whole.members) == 1 and whole.members[0].kind == BlockKind.HEADING
 
 
 class Segmenter:
@@ -126,7 +133,7 @@ class Segmenter:
         pending: list[_WholeSection] = []
         if intro:
             if intro_tokens <= self.budget:
-                pending.append(_WholeSection(intro, intro_tokens, crumb, anchor))
+                pending.append(_WholeSection(intro, intro_tokens, crumb, anchor, intro=True))
             else:
                 self._pack_blocks(intro, crumb, anchor, out)
         for child, child_crumb, child_anchor in children:
@@ -134,8 +141,7 @@ class Segmenter:
             if tokens <= self.budget:
                 pending.append(_WholeSection(self._all_members(child), tokens, child_crumb, child_anchor))
                 continue
-            bare = len(pending) == 1 and pending[0].breadcrumb is crumb and len(pending[0].members) == 1
-            if bare and pending[0].members[0].kind == BlockKind.HEADING:
+            if len(pending) == 1 and _bare_heading(pending[0]):
                 # This section's bare heading: every chunk of the child carries it in its breadcrumb.
                 pending = []
             self._flush_sections(pending, crumb, out)
@@ -162,11 +168,13 @@ class Segmenter:
         used = 0
         for whole in wholes:
             small = whole.tokens < self.settings.min_tokens or used < self.settings.min_tokens
-            if group and small and used + whole.tokens <= self.budget:
+            # A section's bare heading joins what follows, or is left to the breadcrumbs of it.
+            bare = len(group) == 1 and _bare_heading(group[0])
+            if group and (small or bare) and used + whole.tokens <= self.budget:
                 group.append(whole)
                 used += whole.tokens
                 continue
-            if group:
+            if group and not bare:
                 out.append(self._group_draft(group, parent_crumb))
             group, used = [whole], whole.tokens
         if group:
@@ -184,22 +192,33 @@ class Segmenter:
     def _pack_blocks(
         self, members: list[Member], crumb: list[str], anchor: str | None, out: list[Draft]
     ) -> None:
-        """Greedy packing of a section's own members; blocks too big for a chunk are split."""
+        """Greedy packing of a section's own members; blocks too big for a chunk are split.
+
+        A sticky tail (a heading, a lead-in ending in a colon) never ends a chunk: it opens the
+        next one, and what it introduces is split so that its start joins it. When not even that
+        start fits beside it, a lead-in goes alone and a bare heading is left to the breadcrumb,
+        which every chunk of the section carries."""
         key = self._next_key()
         current: list[Member] = []
         used = 0
 
         def flush() -> None:
             nonlocal current, used
-            if not current:
-                return
-            # A sticky tail (heading, lead-in) moves on to open the next chunk instead.
-            carry: list[Member] = []
-            while current and current[-1].sticky and len(current) > 1:
-                carry.insert(0, current.pop())
-            out.append(Draft(current, crumb, anchor, key))
-            current = carry
-            used = sum(p.tokens for p in current)
+            cut = len(current)
+            while cut and current[cut - 1].sticky:
+                cut -= 1
+            if cut:  # all sticky: they wait for what they introduce
+                out.append(Draft(current[:cut], crumb, anchor, key))
+                current = current[cut:]
+                used = sum(m.tokens for m in current)
+
+        def make_room(tokens: int) -> None:
+            nonlocal current, used
+            flush()
+            if current and used + tokens > self.budget:
+                if any(m.kind != BlockKind.HEADING for m in current):
+                    out.append(Draft(current, crumb, anchor, key))
+                current, used = [], 0
 
         for member in members:
             if used + member.tokens <= self.budget:
@@ -208,23 +227,19 @@ class Segmenter:
                 continue
             if member.tokens <= self.budget:
                 flush()
-                if used + member.tokens > self.budget:  # the carried tail plus this member is too much
-                    out.append(Draft(current, crumb, anchor, key))
-                    current, used = [], 0
-                current.append(member)
-                used += member.tokens
-                continue
+                if used + member.tokens <= self.budget:
+                    current.append(member)
+                    used += member.tokens
+                    continue
+            # Over budget, or over the room beside a sticky tail: split, the first part into the room.
             room = self.budget - used
             if member.block is not None:
                 parts = self.splitter.split(member.block, room, self.budget)
             else:  # an over-long heading line
                 parts = self.splitter.split_text(member.text, member.span, room, self.budget)
             for part in parts:
-                if used + part.tokens > self.budget and current:
-                    flush()
-                    if current and used + part.tokens > self.budget:
-                        out.append(Draft(current, crumb, anchor, key))
-                        current, used = [], 0
+                if current and used + part.tokens > self.budget:
+                    make_room(part.tokens)
                 current.append(Member(part.text, part.tokens, member.kind, part.span, oversize=part.oversize))
                 used += part.tokens
         if current:

@@ -293,3 +293,12 @@ def test_corpus_every_file_builds(corpus_reports: dict[int, list[checker.FileRep
     errors = [(r.source, r.error) for r in corpus_reports[budget] if r.error]
     assert not errors, errors[:10]
     assert sum(r.chunks for r in corpus_reports[budget]) > 1000
+
+
+# The demo's command reference at 256 tokens once gave a 9-token chunk holding only the heading
+# "Import zones from the city's open data", its paragraph and code in the next chunk.
+@pytest.mark.parametrize("max_tokens", [60, 96, 128, 256])
+@pytest.mark.parametrize("name", sorted(p.relative_to(DEMO).as_posix() for p in DEMO.rglob("*.md")))
+def test_demo_docs_have_no_chunk_of_a_heading_alone(name: str, max_tokens: int) -> None:
+    _doc, chunks, _md = _demo_case(name, max_tokens)
+    assert all(c.blocks != ["heading"] for c in chunks), [c.text for c in chunks if c.blocks == ["heading"]]

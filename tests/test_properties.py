@@ -248,3 +248,17 @@ def test_code_line_after_a_split_paragraph_stays_whole(tmp_path: Path) -> None:
     markdown = f"{_SPLIT_PARAGRAPH}\n```sh\n{line}\ndkzxq pgc sxiiqt l cqwgmqkkuc uvxhctszbf cwdjthlhta hp\n"
     _tree, chunks = _chunks(tmp_path, markdown, 24)
     assert any(line in c.text.split("\n") for c in chunks), [c.text for c in chunks]
+
+
+@PROPERTY_SETTINGS
+@given(doc=document(), max_tokens=st.sampled_from([24, 48, 96, 256]))
+def test_no_chunk_holds_only_a_heading_whose_section_has_more(
+    tmp_path: Path, doc: tuple[str, Counter[str]], max_tokens: int
+) -> None:
+    """A heading travels with the start of its content (DESIGN.md section 6, rule 4: a lead-in
+    stays with what it introduces): every generated heading has at least one block under it, so
+    no chunk may hold a heading alone."""
+    markdown, _want = doc
+    _tree, chunks = _chunks(tmp_path, markdown, max_tokens)
+    alone = [c.text for c in chunks if c.blocks == ["heading"]]
+    assert not alone, f"{alone}\n---\n{markdown}"

@@ -8,6 +8,7 @@ from __future__ import annotations
 import pytest
 
 from segment import chunk
+from segment import parse as segment_parse
 from segment.chunk import Chunk
 from segment.settings import Settings
 from segment.tokens import CallableCounter
@@ -294,3 +295,50 @@ def test_any_counter_goes_to_the_public_api() -> None:
     assert len(by_object) == 2 and all(c.tokens <= 50 for c in by_object)
     with pytest.raises(TypeError, match="not a token counter"):
         list(chunk(tree, settings, counter=42))  # type: ignore[arg-type]
+
+
+def test_a_heading_travels_with_the_start_of_its_content() -> None:
+    """A heading (and a lead-in ending in a colon) never makes a chunk of its own when its section
+    has more: the first rows, items or code lines join it."""
+    intro = Paragraph("The table below lists every command:")
+    rows = [Row([words(4, f"r{i}x")]) for i in range(20)]
+    table = Table(header=[Row(["Command"])], rows=rows)
+    tree = doc(section("Commands", 2, intro, table))
+    chunks = run(tree, max_tokens=40)
+    assert chunks[0].blocks == ["paragraph", "table"], [c.text for c in chunks]
+    assert chunks[0].text.startswith("Commands\n\nThe table below lists every command:\n\n| Command |")
+    assert all(c.blocks != ["heading"] for c in chunks)
+
+
+def test_a_lone_heading_over_children_that_do_not_join_it_is_left_to_the_breadcrumbs() -> None:
+    """A section with no text of its own, whose children are packed apart: the heading reaches the
+    reader through every child's breadcrumb, not as a chunk holding only the heading."""
+    children = [section(f"Part {i}", 3, Paragraph(words(30, f"p{i}x"))) for i in range(3)]
+    tree = doc(section("Parts", 2, children=children))
+    chunks = run(tree, max_tokens=40)
+    assert all(c.blocks != ["heading"] for c in chunks), [c.text for c in chunks]
+    assert all(c.breadcrumb[:2] == ["Guide", "Parts"] for c in chunks)
+
+
+# CommonMark 0.31.2, section 4.5 "Fenced code blocks": content may hold shorter fences of the same
+# character, or any fences of the other; the chunk's own fence must be longer than any of them.
+@pytest.mark.parametrize("max_tokens", [24, 48, 64, 512])
+def test_code_in_chunks_reparses_to_the_same_code(max_tokens: int) -> None:
+    from markdown_it import MarkdownIt
+
+    from tests.conftest import FIXTURES
+
+    path = FIXTURES / "markdown" / "nested-fences.md"
+    document = segment_parse(path)
+    want = [block.lines for _path, s in document.walk() for block in s.blocks if isinstance(block, Code)]
+    md = MarkdownIt("commonmark")
+    got: list[list[str]] = []
+    for c in chunk(document, Settings(max_tokens=max_tokens, min_tokens=0)):
+        fences = [t for t in md.parse(c.text) if t.type == "fence"]
+        assert ("code" in c.blocks) == bool(fences), c.text
+        got += [t.content.removesuffix("\n").split("\n") for t in fences]
+    # Parts of a split code block join back to the block, in order.
+    joined = [line for lines in got for line in lines]
+    assert joined == [line for lines in want for line in lines], (got, want)
+    if max_tokens == 512:
+        assert got == want
