@@ -30,6 +30,7 @@ _WHITESPACE = b" \t\n\r\x0b\x0c"
 _DIGITS = string.digits.encode()
 _UPPER = string.ascii_uppercase.encode()
 _ALNUM_SPACE = string.ascii_letters.encode() + _DIGITS + _WHITESPACE
+_PUNCTUATION_TO_SPACE = bytes.maketrans(string.punctuation.encode(), b" " * len(string.punctuation))
 
 
 class EstimateCounter:
@@ -44,10 +45,13 @@ class EstimateCounter:
              + 0.76 x non-ASCII characters)
 
     so a non-ASCII character costs one token in all (right for CJK, an over-count for accented
-    Latin letters). The weights were fitted on the shared Markdown corpus against a BERT WordPiece
+    Latin letters), and never less than one token per word between spaces and punctuation: every
+    subword tokenizer gives each such word at least one token (common practice), which a run of
+    single letters and short words would otherwise undercut. The weights were fitted on the shared Markdown corpus against a BERT WordPiece
     tokenizer (bench/bench_tokens.py) so that the estimate is at or above the real count for about
-    95% of chunks: a budget checked with it nearly always holds. Being a sum over characters, the
-    count of joined texts never exceeds the sum of their counts.
+    95% of chunks: a budget checked with it nearly always holds. Both the weighted sum and the word
+    count are sums over the pieces of a text, and the larger of two sums is at most the sum of the
+    larger ones: the count of texts joined by whitespace never exceeds the sum of their counts.
     """
 
     name = "estimate"
@@ -63,7 +67,10 @@ class EstimateCounter:
         digits = size - len(data.translate(None, _DIGITS))
         capitals = size - len(data.translate(None, _UPPER))
         weighted = 24 * non_space + 110 * punctuation + 46 * digits + 5 * capitals + 76 * other
-        return -(-weighted // 100)
+        # The floor: one token per word between spaces and punctuation (non-ASCII characters are
+        # dropped from `data`, but each of them already costs a token of its own).
+        words = len(data.translate(_PUNCTUATION_TO_SPACE).split())
+        return max(-(-weighted // 100), words)
 
 
 class TokenizerFileCounter:
