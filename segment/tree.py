@@ -183,6 +183,15 @@ class Section:
         return self.heading.level if self.heading else 0
 
 
+class TitleOrigin(StrEnum):
+    """Where a document's title came from."""
+
+    SOURCE = "source"
+    """Written by the author: front matter, a title element, document information, a top heading."""
+    FILE_NAME = "file_name"
+    """Derived by docsegment from the file name (or its folder's, for an index page)."""
+
+
 @dataclass(slots=True)
 class Document:
     """One parsed source file."""
@@ -197,6 +206,9 @@ class Document:
     properties: dict[str, Any] = field(default_factory=dict)
     """The source's own declared properties (front matter, HTML meta, PDF document information):
     JSON scalars or lists of scalars, nothing of ours. Filled by the adapters."""
+    title_origin: TitleOrigin = TitleOrigin.SOURCE
+    """Where `title` came from: the author's text, or derived from the file name when the source
+    declares no title and has no top-level heading (see `segment.api.parse_bytes`)."""
 
     @property
     def sections(self) -> list[Section]:
@@ -285,6 +297,8 @@ def pretty(document: Document) -> str:
     from segment.kinds import describe_node
 
     out: list[str] = [f"document format={document.format} title={document.title!r}"]
+    if document.title_origin != TitleOrigin.SOURCE:
+        out[0] += f" title_origin={document.title_origin.value}"
     for key in sorted(document.metadata):
         out.append(f"  meta {key}={document.metadata[key]!r}")
     for warning in document.warnings:

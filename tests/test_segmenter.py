@@ -5,6 +5,8 @@ The counter here is one token per whitespace-separated word, so budgets are easy
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import pytest
 
 from segment import chunk
@@ -342,3 +344,66 @@ def test_code_in_chunks_reparses_to_the_same_code(max_tokens: int) -> None:
     assert joined == [line for lines in want for line in lines], (got, want)
     if max_tokens == 512:
         assert got == want
+
+
+# ----- documents without a title of their own -------------------------------------------------
+
+
+def test_an_untitled_page_takes_its_title_from_the_file_name() -> None:
+    from segment.tree import TitleOrigin
+    from tests.conftest import FIXTURES
+
+    path = FIXTURES / "markdown" / "getting-started.md"
+    document = segment_parse(path, source="guides/getting-started.md")
+    assert (document.title, document.title_origin) == ("Getting started", TitleOrigin.FILE_NAME)
+    chunks = list(chunk(document, Settings(max_tokens=40, min_tokens=0)))
+    assert chunks and all(c.breadcrumb[0] == "Getting started" for c in chunks)
+    assert [c.breadcrumb for c in chunks][-1] == ["Getting started", "Pair it"]
+
+
+@pytest.mark.parametrize(
+    ("name", "text", "title"),
+    [
+        ("fleet-ops/index.md", "Some text.\n\n## Part\n\nMore text.\n", "Fleet ops"),
+        ("guides/README.md", "Some text.\n", "Guides"),
+        (
+            "pairing_guide.html",
+            "<html><body><p>Some text.</p><h2>Part</h2><p>More.</p></body></html>",
+            "Pairing guide",
+        ),
+    ],
+)
+def test_index_pages_and_every_format_get_a_readable_derived_title(
+    tmp_path: Path, name: str, text: str, title: str
+) -> None:
+    from segment.tree import TitleOrigin
+
+    path = tmp_path / name
+    path.parent.mkdir(parents=True, exist_ok=True)
+    path.write_text(text, encoding="utf-8")
+    document = segment_parse(path, source=name)
+    assert (document.title, document.title_origin) == (title, TitleOrigin.FILE_NAME)
+
+
+def test_a_declared_title_is_the_authors() -> None:
+    from segment.tree import TitleOrigin
+    from tests.conftest import FIXTURES
+
+    document = segment_parse(FIXTURES / "markdown" / "nested-fences.md")
+    assert document.title == "Writing help pages for the Kestrel console"
+    assert document.title_origin == TitleOrigin.SOURCE
+
+
+def test_the_default_source_is_the_path_as_given(tmp_path: Path) -> None:
+    """Two index pages with the same text in different folders get different sources and ids."""
+    import segment
+
+    for folder in ("a", "b"):
+        (tmp_path / folder).mkdir()
+        (tmp_path / folder / "index.md").write_text("# Home\n\nWelcome.\n", encoding="utf-8")
+    first = segment.chunk_file(tmp_path / "a" / "index.md")
+    second = segment.chunk_file(tmp_path / "b" / "index.md")
+    assert first[0].source == (tmp_path / "a" / "index.md").as_posix()
+    assert first[0].id != second[0].id
+    named = segment.chunk_file(tmp_path / "a" / "index.md", source="a/index.md")
+    assert named[0].source == "a/index.md"
