@@ -66,6 +66,9 @@ class Fragment:
     the given room where possible, that keep that structure."""
     sep: str | None = None
     """What goes before this fragment when it follows another in a part (default: the joiner)."""
+    locate: Callable[[int, int], Span] | None = None
+    """The span of text[start:end], for running text whose lines are known (so that the pieces of
+    a sentence cut between words point at their own lines)."""
 
 
 class Splitter:
@@ -104,8 +107,14 @@ class Splitter:
                 gap += raw[:lead]
                 start = offset + lead
                 sep = "" if not gap else "\n" if "\n" in gap else " "
+                locate = partial(_offset_span, span, line_starts, start) if line_starts else None
                 fragments.append(
-                    Fragment(stripped, _text_span(span, line_starts, start, start + len(stripped)), sep=sep)
+                    Fragment(
+                        stripped,
+                        _text_span(span, line_starts, start, start + len(stripped)),
+                        sep=sep,
+                        locate=locate,
+                    )
                 )
                 gap = raw[lead + len(stripped) :]
             else:
@@ -205,7 +214,7 @@ class Splitter:
                         current[0].text, max(limit - frame - excess, 1), max(budget - frame - excess, 1)
                     )
                     if len(pieces) > 1:
-                        queue.extend(reversed([Fragment(p, current[0].span) for p in pieces]))
+                        queue.extend(reversed(_pieces_of(current[0], pieces)))
                     else:
                         parts.append(part)  # unbreakable: it goes alone
                 break
@@ -243,7 +252,7 @@ class Splitter:
                 current.append(fragment)
                 close()
                 continue
-            queue.extend(reversed([Fragment(p, fragment.span) for p in pieces]))
+            queue.extend(reversed(_pieces_of(fragment, pieces)))
         return parts
 
     def _break(self, text: str, first_room: int, room: int) -> list[str]:
@@ -312,6 +321,38 @@ def _code_line_span(code: Code, index: int) -> Span:
         return code.span
     line = code.first_line + index
     return Span(lines=(line, line), pages=code.span.pages, bbox=code.span.bbox)
+
+
+def _pieces_of(fragment: Fragment, pieces: list[str]) -> list[Fragment]:
+    """Fragments for the pieces `fragment` was cut into, each with its own lines when known.
+
+    The pieces hold the fragment's words in order (whitespace may be folded), so each is found
+    in the fragment's text from where the previous one ended."""
+    if fragment.locate is None:
+        return [Fragment(p, fragment.span) for p in pieces]
+    out: list[Fragment] = []
+    text, pos = fragment.text, 0
+    for piece in pieces:
+        words = piece.split()
+        start = text.find(words[0], pos) if words else -1
+        end = text.find(words[-1], start + len(words[0]) if len(words) > 1 else start) if start >= 0 else -1
+        if end < 0:
+            out.append(Fragment(piece, fragment.span))
+            continue
+        end += len(words[-1])
+        out.append(
+            Fragment(piece, fragment.locate(start, end), locate=partial(_shifted, fragment.locate, start))
+        )
+        pos = end
+    return out
+
+
+def _shifted(locate: Callable[[int, int], Span], offset: int, start: int, end: int) -> Span:
+    return locate(offset + start, offset + end)
+
+
+def _offset_span(span: Span, line_starts: list[int], offset: int, start: int, end: int) -> Span:
+    return _text_span(span, line_starts, offset + start, offset + end)
 
 
 def _text_span(span: Span, line_starts: list[int] | None, start: int, end: int) -> Span:

@@ -183,9 +183,8 @@ STRUCTURE_SETTINGS = settings(PROPERTY_SETTINGS, phases=[Phase.explicit, Phase.r
 # Which random documents hit a problem varies with the modules loaded (hypothesis draws on
 # constants found in them), so a strict xfail on the property itself would be flaky.
 STRUCTURE_KNOWN: dict[str, str] = {
-    "boundaries": "a sentence after a single-letter abbreviation: "
-    "test_a_sentence_that_fits_is_not_cut_between_words",
-    "lines": "word parts of one sentence share its lines: test_word_split_parts_point_at_their_own_lines",
+    "boundaries": "a sentence after a capital single letter and a full stop is not split, since "
+    "initials would be cut too: test_a_sentence_after_a_capital_letter_and_a_stop_is_not_split",
 }
 
 
