@@ -83,6 +83,9 @@ class Segmenter:
         self.splitter = splitter(self.counter, settings.language)
         self.budget = settings.max_tokens - settings.overlap_tokens
         self._key = 0
+        self._lines: dict[tuple[str, ...], str] = {}
+        self._reserve = 0
+        """Tokens kept free in every chunk for its heading line."""
         self._intros: dict[int, list[Member]] = {}
         self._totals: dict[int, int] = {}
 
@@ -94,6 +97,12 @@ class Segmenter:
         self._intros, self._totals = {}, {}
         drafts: list[Draft] = []
         base = [document.title] if document.title else []
+        self.budget = self.settings.max_tokens - self.settings.overlap_tokens
+        self._reserve = 0
+        if self.settings.heading_line != "off":
+            self._lines = {}
+            self._reserve = self._line_reserve(document)
+            self.budget -= self._reserve
         self._section(document.root, base, None, drafts, document.title)
         if not is_additive(self.counter):
             drafts = [d for draft in drafts for d in self._repair(draft)]
@@ -249,7 +258,8 @@ class Segmenter:
         members: list[Member] = []
         if section.heading is not None:
             h = section.heading
-            members.append(Member(h.text, self.counter.count(h.text), BlockKind.HEADING, h.span, sticky=True))
+            text = self._heading_text(h.text, h.level)
+            members.append(Member(text, self.counter.count(text), BlockKind.HEADING, h.span, sticky=True))
         for block in section.blocks:
             text = render_block(block)
             if not text.strip():
@@ -280,6 +290,45 @@ class Segmenter:
             total += sum(self._whole_tokens(c) for c in section.children)
             self._totals[id(section)] = total
         return total
+
+    def _heading_text(self, text: str, level: int) -> str:
+        """A heading line as it appears in chunk text: plain, or `## Text` (levels past 6 as 6)."""
+        if not self.settings.markdown_headings:
+            return text
+        return "#" * min(max(level, 1), 6) + " " + text
+
+    def _path_line(self, document: Document, breadcrumb: list[str]) -> str:
+        """The first line of a chunk under `heading_line`: its heading path (after the document
+        title with `title`), shortened from the front to a quarter of the budget at most."""
+        key = tuple(breadcrumb)
+        line = self._lines.get(key)
+        if line is None:
+            path = list(breadcrumb)
+            if self.settings.heading_line == "path" and document.title and path[:1] == [document.title]:
+                path = path[1:]
+            limit = self.settings.max_tokens // 4
+            line = ""
+            while path:
+                line = " > ".join(path)
+                if self.counter.count(line) <= limit:
+                    break
+                path, line = path[1:], ""
+            self._lines[key] = line
+        return line
+
+    def _line_reserve(self, document: Document) -> int:
+        """Tokens kept free in every chunk for its first line: the dearest line of any section."""
+        base = [document.title] if document.title else []
+        reserve = 0
+        for path, section in document.walk():
+            crumb = base + [s.heading.text for s in path if s.heading] if path else base
+            if section.heading is not None:
+                crumb = crumb + [section.heading.text]
+            line = self._path_line(document, crumb)
+            if line:
+                framed = self.counter.count(f"{line}\n\nx") - self.counter.count("x")
+                reserve = max(reserve, framed)
+        return reserve
 
     def _next_key(self) -> int:
         self._key += 1
@@ -329,8 +378,13 @@ class Segmenter:
             overlap = draft.overlap
             text = f"{overlap}\n\n{body}" if overlap is not None else body
             tokens = self.counter.count(text)
-            if overlap is not None and tokens > self.settings.max_tokens:
+            if overlap is not None and tokens > self.settings.max_tokens - self._reserve:
                 text, tokens = body, self.counter.count(body)
+            if self.settings.heading_line != "off":
+                line = self._path_line(document, draft.breadcrumb)
+                if line:
+                    text = f"{line}\n\n{text}"
+                    tokens = self.counter.count(text)
             key = (*draft.breadcrumb, "\x1f", normalise_text(text))
             occurrence = seen.get(key, 0)
             seen[key] = occurrence + 1

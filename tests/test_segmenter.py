@@ -407,3 +407,51 @@ def test_the_default_source_is_the_path_as_given(tmp_path: Path) -> None:
     assert first[0].id != second[0].id
     named = segment.chunk_file(tmp_path / "a" / "index.md", source="a/index.md")
     assert named[0].source == "a/index.md"
+
+
+# ----- text for the embedder ----------------------------------------------------------------------
+
+
+def _sensors() -> Document:
+    calibration = section("Calibration", 2, Paragraph(words(70, "c")))
+    return doc(section("Sensors", 1, Paragraph(words(5, "s")), children=[calibration]), title="Field guide")
+
+
+def test_heading_line_puts_the_heading_path_first_in_every_chunk_within_budget() -> None:
+    plain = run(_sensors())
+    chunks = run(_sensors(), heading_line="path")
+    continuation = [c for c in chunks if c.breadcrumb[-1] == "Calibration"]
+    assert len(continuation) >= 2
+    assert all(c.text.startswith("Sensors > Calibration\n\n") for c in continuation), [c.text for c in chunks]
+    assert all(c.tokens <= 50 for c in chunks)
+    assert [c.id for c in chunks] != [c.id for c in plain]  # the text changed, so did the ids
+    titled = run(_sensors(), heading_line="title")
+    assert all(c.text.startswith("Field guide > Sensors") for c in titled), [c.text for c in titled]
+
+
+def test_markdown_headings_write_heading_lines_with_their_level() -> None:
+    chunks = run(_sensors(), markdown_headings=True)
+    text = "\n\n".join(c.text for c in chunks)
+    assert text.startswith("# Sensors\n\n") and "\n\n## Calibration\n\n" in text
+
+
+def test_text_settings_are_off_by_default_and_fingerprinted() -> None:
+    from segment.errors import SettingsError
+
+    assert Settings().heading_line == "off" and Settings().markdown_headings is False
+    base = Settings().fingerprint()
+    assert Settings(heading_line="path").fingerprint() != base
+    assert Settings(markdown_headings=True).fingerprint() != base
+    with pytest.raises(SettingsError, match="heading_line"):
+        Settings(heading_line="sideways")
+
+
+def test_heading_line_with_overlap_keeps_the_budget() -> None:
+    text = " ".join(f"Sentence {i} has five words." for i in range(30))
+    tree = doc(
+        section("Sensors", 1, children=[section("Calibration", 2, Paragraph(text))]), title="Field guide"
+    )
+    chunks = run(tree, heading_line="title", overlap_tokens=10, max_tokens=40)
+    assert len(chunks) >= 3 and all(c.tokens <= 40 for c in chunks), [(c.tokens, c.text) for c in chunks]
+    second = chunks[1].text.split("\n\n")
+    assert second[0] == "Field guide > Sensors > Calibration" and second[1].startswith("Sentence"), second
