@@ -216,7 +216,7 @@ class Segmenter:
             cut = len(current)
             while cut and current[cut - 1].sticky:
                 cut -= 1
-            if cut:  # all sticky: they wait for what they introduce
+            if cut:  # (all sticky: they wait for what they introduce)
                 out.append(Draft(current[:cut], crumb, anchor, key))
                 current = current[cut:]
                 used = sum(m.tokens for m in current)

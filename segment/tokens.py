@@ -62,15 +62,20 @@ class EstimateCounter:
         data = text.encode("ascii", "ignore")
         other = len(text) - len(data)
         size = len(data)
-        non_space = len(data.translate(None, _WHITESPACE)) + other
+        ascii_non_space = len(data.translate(None, _WHITESPACE))
+        non_space = ascii_non_space + other
         punctuation = len(data.translate(None, _ALNUM_SPACE))
         digits = size - len(data.translate(None, _DIGITS))
         capitals = size - len(data.translate(None, _UPPER))
         weighted = 24 * non_space + 110 * punctuation + 46 * digits + 5 * capitals + 76 * other
+        estimate = -(-weighted // 100)
         # The floor: one token per word between spaces and punctuation (non-ASCII characters are
-        # dropped from `data`, but each of them already costs a token of its own).
-        words = len(data.translate(_PUNCTUATION_TO_SPACE).split())
-        return max(-(-weighted // 100), words)
+        # dropped from `data`, but each of them already costs a token of its own). Words are
+        # counted only when the estimate is below their upper bound (spaces + punctuation + 1):
+        # running prose never is, a run of single letters and short words is.
+        if estimate > size - ascii_non_space + punctuation:
+            return estimate
+        return max(estimate, len(data.translate(_PUNCTUATION_TO_SPACE).split()))
 
 
 class TokenizerFileCounter:
