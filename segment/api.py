@@ -10,7 +10,7 @@ from segment.chunk import Chunk
 from segment.errors import ParseError, SegmentError, TooLarge
 from segment.gcpause import paused_gc
 from segment.settings import Settings
-from segment.tokens import Counter
+from segment.tokens import AnyCounter
 from segment.tree import Document, TitleOrigin
 
 INDEX_STEMS = frozenset({"index", "_index", "readme"})
@@ -77,7 +77,7 @@ def parse(path: str | Path, settings: Settings | None = None, source: str | None
 
 
 def chunk(
-    document: Document, settings: Settings | None = None, counter: Counter | None = None
+    document: Document, settings: Settings | None = None, counter: AnyCounter | None = None
 ) -> Iterator[Chunk]:
     """Cut a parsed document into chunks under the settings' token budget.
 

@@ -22,7 +22,7 @@ from segment.gcpause import paused_gc
 from segment.kinds import render_block, splitter
 from segment.sentences import split_sentences
 from segment.settings import Settings
-from segment.tokens import Counter, as_counter, counter_for, is_additive
+from segment.tokens import AnyCounter, as_counter, counter_for, is_additive
 from segment.tree import Block, BlockKind, Document, Section, Span, merge_spans
 
 
@@ -77,7 +77,7 @@ def _bare_heading(whole: _WholeSection) -> bool:
 class Segmenter:
     """Cuts documents under one set of settings. Reusable across documents; not thread-safe."""
 
-    def __init__(self, settings: Settings, counter: Counter | None = None) -> None:
+    def __init__(self, settings: Settings, counter: AnyCounter | None = None) -> None:
         self.settings = settings
         self.counter = counter_for(settings.tokenizer) if counter is None else as_counter(counter)
         self.splitter = splitter(self.counter, settings.language)
@@ -412,7 +412,7 @@ class Segmenter:
 
 
 def segment_document(
-    document: Document, settings: Settings, counter: Counter | None = None
+    document: Document, settings: Settings, counter: AnyCounter | None = None
 ) -> Iterator[Chunk]:
     """Chunks of one document under `settings`, counted by `counter` (default: the settings')."""
     try:

@@ -115,11 +115,11 @@ class CallableCounter:
         return int(self._fn(text))
 
 
-Counter = TokenCounter | Callable[[str], int]
+AnyCounter = TokenCounter | Callable[[str], int]
 """What `segment.chunk` accepts as a counter: a counter object or a `str -> int` function."""
 
 
-def as_counter(counter: Counter) -> TokenCounter:
+def as_counter(counter: AnyCounter) -> TokenCounter:
     """A counter object for `counter`; a plain function is wrapped in a `CallableCounter`."""
     if isinstance(counter, TokenCounter):
         return counter
