@@ -4,7 +4,7 @@ from segment.api import chunk, chunk_file, parse, parse_bytes
 from segment.chunk import Chunk
 from segment.errors import ParseError, SegmentError, SettingsError, TooLarge, UnsupportedFormat
 from segment.settings import Settings, load_settings
-from segment.tree import Document
+from segment.tree import Document, TitleOrigin
 
 __version__ = "0.1.0"
 
@@ -15,6 +15,7 @@ __all__ = [
     "SegmentError",
     "Settings",
     "SettingsError",
+    "TitleOrigin",
     "TooLarge",
     "UnsupportedFormat",
     "__version__",

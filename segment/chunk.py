@@ -99,8 +99,8 @@ class Chunk:
             text=data["text"],
             tokens=data["tokens"],
             blocks=list(data["blocks"]),
-            lines=tuple(data["lines"]) if data.get("lines") else None,  # type: ignore[arg-type]
-            pages=tuple(data["pages"]) if data.get("pages") else None,  # type: ignore[arg-type]
+            lines=tuple(data["lines"]) if data.get("lines") else None,
+            pages=tuple(data["pages"]) if data.get("pages") else None,
             anchor=data.get("anchor"),
             oversize=bool(data.get("oversize", False)),
             extra={k: v for k, v in data.items() if k not in fixed},

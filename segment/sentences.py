@@ -20,6 +20,10 @@ WINDOW_CHARS = 200_000
 _SPACE = re.compile(r"\s")
 _SENTENCE_END = re.compile(r"[.!?;:\u3002\uff01\uff1f\u0964\u061f]")
 LONG_RUN = 200
+_LETTER_STOP = re.compile(r"(?<![\w.])[a-z]\.\s+(?=[A-Z])")
+"""A lowercase single letter, a full stop, space, a capital: the end of a sentence, though
+spaCy's English tokenizer keeps "h." whole as an abbreviation and so never ends a sentence there.
+Initials ("J. Smith") are capitals and "e.g." has two stops: neither matches."""
 _LONG_RUN = re.compile(rf"(\S{{{LONG_RUN},}})")
 
 
@@ -62,6 +66,10 @@ def _sentences(window: str, language: str) -> list[str]:
             starts = [s.start_char for s in doc.sents]
             if not starts or starts[0] != 0:
                 starts.insert(0, 0)
+            if "." in run:
+                more = [m.end() for m in _LETTER_STOP.finditer(run)]
+                if more:
+                    starts = sorted(set(starts).union(more))
             out.extend(run[a:b] for a, b in zip(starts, starts[1:] + [len(run)]))
     return out
 

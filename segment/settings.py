@@ -56,6 +56,13 @@ class Settings:
     """Wall-clock budget for parsing and segmenting one file in a worker process."""
     memory_mb: int = 2048
     """Address-space limit of a worker process, in MiB (0: no limit)."""
+    heading_line: str = "off"
+    """First line of every chunk's text, counted in the budget: `off`; `path`, the heading path
+    ("Sensors > Calibration"); `title`, the document title before it. For embedding a chunk with
+    its context. Changes every id when switched (the text changes)."""
+    markdown_headings: bool = False
+    """Write heading lines in chunk text the Markdown way (`## Calibration`), so a reader or a
+    language model tells headings from paragraphs. Changes the ids of chunks that hold a heading."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
@@ -66,11 +73,20 @@ class Settings:
             raise SettingsError(
                 f"overlap_tokens must be between 0 and half of max_tokens, got {self.overlap_tokens}"
             )
+        if self.heading_line not in HEADING_LINE_VALUES:
+            raise SettingsError(
+                f"heading_line must be one of {', '.join(HEADING_LINE_VALUES)}, got {self.heading_line!r}"
+            )
 
     def fingerprint(self) -> str:
         """Hash of the fields that change the chunks of a file (not include/exclude or limits)."""
         keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language")
         data: dict[str, Any] = {k: getattr(self, k) for k in keys}
+        # Output-shaping fields added later: hashed only when not at their default, so that
+        # output folders built before they existed keep their fingerprint.
+        for key in OUTPUT_SHAPING_ADDED:
+            if getattr(self, key) != _DEFAULTS[key]:
+                data[key] = getattr(self, key)
         data["output_version"] = OUTPUT_VERSION
         if self.tokenizer:
             data["tokenizer_sha"] = _file_sha(self.tokenizer)
@@ -80,6 +96,15 @@ class Settings:
     def to_dict(self) -> dict[str, Any]:
         """Plain dict form (tuples become lists)."""
         return {k: list(v) if isinstance(v, tuple) else v for k, v in asdict(self).items()}
+
+
+HEADING_LINE_VALUES = ("off", "path", "title")
+"""Values of `Settings.heading_line`."""
+
+OUTPUT_SHAPING_ADDED = ("heading_line", "markdown_headings")
+"""Fields that change chunks, added after the first fingerprinted ones (see `fingerprint`)."""
+
+_DEFAULTS: dict[str, Any] = {f.name: f.default for f in fields(Settings)}
 
 
 def _file_sha(path: str) -> str:

@@ -9,15 +9,17 @@ Only a table row that cannot fit even alone (with its header) makes an over-budg
 from __future__ import annotations
 
 from bisect import bisect_right
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
+from functools import partial
+from typing import TYPE_CHECKING
 
 from segment.render import (
     INDENT,
+    closing_fence,
     code_fence,
     item_marker,
     quote_label,
-    render_block,
     render_definition,
     render_item,
     render_row,
@@ -27,6 +29,7 @@ from segment.sentences import split_sentences
 from segment.tokens import TokenCounter
 from segment.tree import (
     Block,
+    BlockKind,
     Code,
     Definition,
     DefinitionList,
@@ -36,6 +39,9 @@ from segment.tree import (
     Span,
     Table,
 )
+
+if TYPE_CHECKING:
+    from segment.kinds import KindRules
 
 
 @dataclass(slots=True)
@@ -49,22 +55,30 @@ class Part:
 
 
 @dataclass(slots=True)
-class _Unit:
+class Fragment:
+    """The smallest text the packer moves whole: a table row, a list item, a code line, a
+    sentence, a run of words. Parts are made of fragments."""
+
     text: str
     span: Span
-    expand: Callable[[int], list[_Unit]] | None = None
-    """For a unit with structure inside (a list item, a quoted block): smaller units, each fitting
+    expand: Callable[[int], list[Fragment]] | None = None
+    """For a fragment with structure inside (a list item, a quoted block): smaller fragments, each fitting
     the given room where possible, that keep that structure."""
     sep: str | None = None
-    """What goes before this unit when it follows another in a part (default: the joiner)."""
+    """What goes before this fragment when it follows another in a part (default: the joiner)."""
+    locate: Callable[[int, int], Span] | None = None
+    """The span of text[start:end], for running text whose lines are known (so that the pieces of
+    a sentence cut between words point at their own lines)."""
 
 
 class Splitter:
     """Splits blocks under a counter and a language; one instance per document run."""
 
-    def __init__(self, counter: TokenCounter, language: str) -> None:
+    def __init__(self, counter: TokenCounter, language: str, rules: Mapping[BlockKind, KindRules]) -> None:
         self.counter = counter
         self.language = language
+        self.rules = rules
+        """The rules of every block kind (`segment.kinds.RULES`)."""
 
     def count(self, text: str) -> int:
         """Tokens of `text` under the run's counter."""
@@ -73,42 +87,17 @@ class Splitter:
     def split(self, block: Block, first_budget: int, budget: int) -> list[Part]:
         """Parts of `block`; the first fits `first_budget` (the room left in the current chunk),
         the others `budget`. The first part is empty-text when nothing fits the first budget."""
-        if isinstance(block, Table):
-            prefix = "\n".join(table_prefix(block))
-            units = [_Unit(render_row(r), r.span) for r in block.rows]
-            return self._pack(units, "\n", prefix, "", first_budget, budget, block.span, rows=True)
-        if isinstance(block, ListBlock):
-            units = [
-                _Unit(render_item(block, i), it.span, lambda room, b=block, k=i: self._item_units(b, k, room))
-                for i, it in enumerate(block.items)
-            ]
-            return self._pack(units, "\n", "", "", first_budget, budget, block.span)
-        if isinstance(block, Code):
-            units = [_Unit(line, _code_line_span(block, i)) for i, line in enumerate(block.lines)]
-            return self._pack(units, "\n", code_fence(block), "```", first_budget, budget, block.span)
-        if isinstance(block, Quote):
-            units = [
-                _Unit(render_block(b), b.span, lambda room, b=b: self._block_units(b, room))
-                for b in block.blocks
-            ]
-            return self._pack(
-                units, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span
-            )
-        if isinstance(block, DefinitionList):
-            units = [
-                _Unit(render_definition(d), d.span, lambda room, d=d: self._definition_units(d, room))
-                for d in block.items
-            ]
-            return self._pack(units, "\n", "", "", first_budget, budget, block.span)
-        if isinstance(block, Paragraph):
-            return self.split_text(block.text, block.span, first_budget, budget, block.line_starts)
-        raise TypeError(f"not a block: {type(block).__name__}")
+        return self.rules[block.kind].split(self, block, first_budget, budget)
+
+    def render(self, block: Block) -> str:
+        """The whole text of `block`, as its kind's rule renders it."""
+        return self.rules[block.kind].render(block, self.render)
 
     def split_text(
         self, text: str, span: Span, first_budget: int, budget: int, line_starts: list[int] | None = None
     ) -> list[Part]:
         """Running text cut between sentences (then words, then characters)."""
-        units: list[_Unit] = []
+        fragments: list[Fragment] = []
         offset = 0
         gap = ""  # the whitespace between the previous sentence and this one, as in the source
         for raw in split_sentences(text, self.language):
@@ -118,30 +107,37 @@ class Splitter:
                 gap += raw[:lead]
                 start = offset + lead
                 sep = "" if not gap else "\n" if "\n" in gap else " "
-                units.append(
-                    _Unit(stripped, _text_span(span, line_starts, start, start + len(stripped)), sep=sep)
+                locate = partial(_offset_span, span, line_starts, start) if line_starts else None
+                fragments.append(
+                    Fragment(
+                        stripped,
+                        _text_span(span, line_starts, start, start + len(stripped)),
+                        sep=sep,
+                        locate=locate,
+                    )
                 )
                 gap = raw[lead + len(stripped) :]
             else:
                 gap += raw
             offset += len(raw)
-        return self._pack(units, " ", "", "", first_budget, budget, span)
+        return self.pack(fragments, " ", "", "", first_budget, budget, span)
 
-    def _block_units(self, block: Block, room: int) -> list[_Unit]:
-        return [_Unit(p.text, p.span) for p in self.split(block, room, room)]
+    def block_fragments(self, block: Block, room: int) -> list[Fragment]:
+        """`block` as parts that fit `room` each."""
+        return [Fragment(p.text, p.span) for p in self.split(block, room, room)]
 
-    def _item_units(self, block: ListBlock, index: int, room: int) -> list[_Unit]:
+    def item_fragments(self, block: ListBlock, index: int, room: int) -> list[Fragment]:
         """An over-budget list item cut along its own blocks; the marker leads, the rest indented."""
         marker = item_marker(block, index)
         pad = " " * len(marker)
-        units: list[_Unit] = []
+        fragments: list[Fragment] = []
         for b in block.items[index].blocks:
             # Only the first part carries the marker; later parts are merely indented.
-            first = room - self.count(marker) if not units else room
-            units += self._indented_parts(b, first, room, marker if not units else pad, pad)
-        return units
+            first = room - self.count(marker) if not fragments else room
+            fragments += self._indented_parts(b, first, room, marker if not fragments else pad, pad)
+        return fragments
 
-    def _indented_parts(self, block: Block, first: int, room: int, lead: str, pad: str) -> list[_Unit]:
+    def _indented_parts(self, block: Block, first: int, room: int, lead: str, pad: str) -> list[Fragment]:
         """Parts of `block` with their lines indented, each fitting `room` once indented.
 
         Counters that charge for spaces (byte-level BPE) make indented text dearer: the parts are
@@ -154,22 +150,22 @@ class Splitter:
             if over <= 0:
                 break
             shrink = max(shrink * 2, shrink + over)  # parts move a whole line at a time
-        return [_Unit(t, p.span) for t, p in zip(texts, parts)]
+        return [Fragment(t, p.span) for t, p in zip(texts, parts)]
 
-    def _definition_units(self, item: Definition, room: int) -> list[_Unit]:
+    def definition_fragments(self, item: Definition, room: int) -> list[Fragment]:
         """An over-budget definition cut along its blocks; the terms stay with the first part."""
-        units: list[_Unit] = []
+        fragments: list[Fragment] = []
         head = "; ".join(item.terms)
         inner = max(room - self.count(head), 1)
         for b in item.blocks:
             for part in self.split(b, inner, inner):
                 text = _indent(part.text, INDENT, INDENT)
-                units.append(_Unit(f"{head}\n{text}" if not units else text, part.span))
-        return units or [_Unit(head, item.span)]
+                fragments.append(Fragment(f"{head}\n{text}" if not fragments else text, part.span))
+        return fragments or [Fragment(head, item.span)]
 
-    def _pack(
+    def pack(
         self,
-        units: list[_Unit],
+        fragments: list[Fragment],
         joiner: str,
         prefix: str,
         suffix: str,
@@ -178,25 +174,25 @@ class Splitter:
         span: Span,
         rows: bool = False,
     ) -> list[Part]:
-        """Greedy packing of units between a repeated prefix and suffix.
+        """Greedy packing of fragments between a repeated prefix and suffix.
 
         Invariant: every part's real count fits its budget (the first part `first_budget`, the
-        others `budget`), except a lone table row flagged `oversize`. Sums of unit counts decide
+        others `budget`), except a lone table row flagged `oversize`. Sums of fragment counts decide
         tentatively; the joined text is counted again on closing a part, since subword counts are
-        not always additive, and the last unit goes back to the queue when it went over.
+        not always additive, and the last fragment goes back to the queue when it went over.
         """
         # What the prefix and suffix add around a body, joins included (a byte-level BPE counts
         # the newlines too): the cost of a framed one-letter body less that of the letter.
         frame = (
-            self.count(self._join([_Unit("x", span)], joiner, prefix, suffix)) - self.count("x")
+            self.count(self._join([Fragment("x", span)], joiner, prefix, suffix)) - self.count("x")
             if prefix or suffix
             else 0
         )
         parts: list[Part] = []
-        current: list[_Unit] = []
+        current: list[Fragment] = []
         used = frame
         limit = first_budget
-        queue = list(reversed(units))
+        queue = list(reversed(fragments))
 
         def close() -> None:
             nonlocal current, used, limit
@@ -212,13 +208,13 @@ class Splitter:
                 elif rows:  # a lone row that does not fit even with its header
                     part.oversize = True
                     parts.append(part)
-                else:  # a lone unit that went over once framed (rounding): cut it smaller
+                else:  # a lone fragment that went over once framed (rounding): cut it smaller
                     excess = part.tokens - limit
                     pieces = self._break(
                         current[0].text, max(limit - frame - excess, 1), max(budget - frame - excess, 1)
                     )
                     if len(pieces) > 1:
-                        queue.extend(reversed([_Unit(p, current[0].span) for p in pieces]))
+                        queue.extend(reversed(_pieces_of(current[0], pieces)))
                     else:
                         parts.append(part)  # unbreakable: it goes alone
                 break
@@ -226,41 +222,41 @@ class Splitter:
 
         while queue or current:
             if not queue:
-                close()  # may hand units back to the queue, and then the loop goes on
+                close()  # may hand fragments back to the queue, and then the loop goes on
                 continue
-            unit = queue.pop()
-            cost = self.count(unit.text)
+            fragment = queue.pop()
+            cost = self.count(fragment.text)
             if used + cost <= limit:
-                current.append(unit)
+                current.append(fragment)
                 used += cost
                 continue
             fits_fresh = frame + cost <= budget
             if current or (limit < budget and (fits_fresh or limit - frame < budget // 4)):
-                queue.append(unit)  # before close(): units it hands back go on top, in order
+                queue.append(fragment)  # before close(): fragments it hands back go on top, in order
                 close()
                 limit = budget
                 continue
-            # The unit alone is over the room it has, in an empty part.
+            # The fragment alone is over the room it has, in an empty part.
             if rows:
-                text = self._join([unit], joiner, prefix, suffix)
-                parts.append(Part(text, self.count(text), unit.span, oversize=True))
+                text = self._join([fragment], joiner, prefix, suffix)
+                parts.append(Part(text, self.count(text), fragment.span, oversize=True))
                 limit = budget
                 continue
-            if unit.expand is not None:
-                smaller = unit.expand(max(budget - frame, 1))
+            if fragment.expand is not None:
+                smaller = fragment.expand(max(budget - frame, 1))
                 if len(smaller) > 1:
                     queue.extend(reversed(smaller))
                     continue
-            pieces = self._break(unit.text, max(limit - frame, 1), max(budget - frame, 1))
+            pieces = self._break(fragment.text, max(limit - frame, 1), max(budget - frame, 1))
             if len(pieces) == 1:  # cannot be broken further: it goes alone
-                current.append(unit)
+                current.append(fragment)
                 close()
                 continue
-            queue.extend(reversed([_Unit(p, unit.span) for p in pieces]))
+            queue.extend(reversed(_pieces_of(fragment, pieces)))
         return parts
 
     def _break(self, text: str, first_room: int, room: int) -> list[str]:
-        """An over-budget unit as smaller texts: sentences, else words, else characters."""
+        """An over-budget fragment as smaller texts: sentences, else words, else characters."""
         sentences = [s.strip() for s in split_sentences(text, self.language) if s.strip()]
         if len(sentences) > 1:
             return sentences
@@ -301,14 +297,16 @@ class Splitter:
             limit = max(room, 1)
         return out
 
-    def _join(self, units: list[_Unit], joiner: str, prefix: str, suffix: str) -> str:
-        body = units[0].text + "".join((joiner if u.sep is None else u.sep) + u.text for u in units[1:])
+    def _join(self, fragments: list[Fragment], joiner: str, prefix: str, suffix: str) -> str:
+        body = fragments[0].text + "".join(
+            (joiner if u.sep is None else u.sep) + u.text for u in fragments[1:]
+        )
         return "\n".join(x for x in (prefix, body, suffix) if x)
 
-    def _make(self, units: list[_Unit], joiner: str, prefix: str, suffix: str, span: Span) -> Part:
-        text = self._join(units, joiner, prefix, suffix)
-        merged = units[0].span
-        for u in units[1:]:
+    def _make(self, fragments: list[Fragment], joiner: str, prefix: str, suffix: str, span: Span) -> Part:
+        text = self._join(fragments, joiner, prefix, suffix)
+        merged = fragments[0].span
+        for u in fragments[1:]:
             merged = merged.merge(u.span)
         return Part(text, self.count(text), merged)
 
@@ -325,6 +323,38 @@ def _code_line_span(code: Code, index: int) -> Span:
     return Span(lines=(line, line), pages=code.span.pages, bbox=code.span.bbox)
 
 
+def _pieces_of(fragment: Fragment, pieces: list[str]) -> list[Fragment]:
+    """Fragments for the pieces `fragment` was cut into, each with its own lines when known.
+
+    The pieces hold the fragment's words in order (whitespace may be folded), so each is found
+    in the fragment's text from where the previous one ended."""
+    if fragment.locate is None:
+        return [Fragment(p, fragment.span) for p in pieces]
+    out: list[Fragment] = []
+    text, pos = fragment.text, 0
+    for piece in pieces:
+        words = piece.split()
+        start = text.find(words[0], pos) if words else -1
+        end = text.find(words[-1], start + len(words[0]) if len(words) > 1 else start) if start >= 0 else -1
+        if end < 0:
+            out.append(Fragment(piece, fragment.span))
+            continue
+        end += len(words[-1])
+        out.append(
+            Fragment(piece, fragment.locate(start, end), locate=partial(_shifted, fragment.locate, start))
+        )
+        pos = end
+    return out
+
+
+def _shifted(locate: Callable[[int, int], Span], offset: int, start: int, end: int) -> Span:
+    return locate(offset + start, offset + end)
+
+
+def _offset_span(span: Span, line_starts: list[int], offset: int, start: int, end: int) -> Span:
+    return _text_span(span, line_starts, offset + start, offset + end)
+
+
 def _text_span(span: Span, line_starts: list[int] | None, start: int, end: int) -> Span:
     """The lines of text[start:end] inside a paragraph whose later lines begin at `line_starts`."""
     if not line_starts or span.lines is None:
@@ -332,3 +362,58 @@ def _text_span(span: Span, line_starts: list[int] | None, start: int, end: int) 
     first = span.lines[0] + bisect_right(line_starts, start)
     last = span.lines[0] + bisect_right(line_starts, max(end - 1, start))
     return Span(lines=(first, min(last, span.lines[1])), pages=span.pages, bbox=span.bbox)
+
+
+# ----- the splitting rule of each block kind (keyed by kind in segment.kinds) ---------------------
+
+
+def split_paragraph(splitter: Splitter, block: Paragraph, first_budget: int, budget: int) -> list[Part]:
+    """Between sentences, then words, then characters."""
+    return splitter.split_text(block.text, block.span, first_budget, budget, block.line_starts)
+
+
+def split_list(splitter: Splitter, block: ListBlock, first_budget: int, budget: int) -> list[Part]:
+    """Between items; an item over budget along its own blocks, the marker leading."""
+    fragments = [
+        Fragment(
+            render_item(block, i, splitter.render),
+            item.span,
+            partial(splitter.item_fragments, block, i),
+        )
+        for i, item in enumerate(block.items)
+    ]
+    return splitter.pack(fragments, "\n", "", "", first_budget, budget, block.span)
+
+
+def split_table(splitter: Splitter, block: Table, first_budget: int, budget: int) -> list[Part]:
+    """Between rows, with the caption and header at the top of every part."""
+    prefix = "\n".join(table_prefix(block))
+    fragments = [Fragment(render_row(r), r.span) for r in block.rows]
+    return splitter.pack(fragments, "\n", prefix, "", first_budget, budget, block.span, rows=True)
+
+
+def split_code(splitter: Splitter, block: Code, first_budget: int, budget: int) -> list[Part]:
+    """Between lines, every part fenced."""
+    fragments = [Fragment(line, _code_line_span(block, i)) for i, line in enumerate(block.lines)]
+    return splitter.pack(
+        fragments, "\n", code_fence(block), closing_fence(block), first_budget, budget, block.span
+    )
+
+
+def split_quote(splitter: Splitter, block: Quote, first_budget: int, budget: int) -> list[Part]:
+    """Between the quoted blocks, the label leading the first part."""
+    fragments = [
+        Fragment(splitter.render(b), b.span, partial(splitter.block_fragments, b)) for b in block.blocks
+    ]
+    return splitter.pack(fragments, "\n\n", quote_label(block).rstrip(), "", first_budget, budget, block.span)
+
+
+def split_definitions(
+    splitter: Splitter, block: DefinitionList, first_budget: int, budget: int
+) -> list[Part]:
+    """Between entries; an entry over budget along its definitions, the terms leading."""
+    fragments = [
+        Fragment(render_definition(d, splitter.render), d.span, partial(splitter.definition_fragments, d))
+        for d in block.items
+    ]
+    return splitter.pack(fragments, "\n", "", "", first_budget, budget, block.span)

@@ -30,6 +30,7 @@ _WHITESPACE = b" \t\n\r\x0b\x0c"
 _DIGITS = string.digits.encode()
 _UPPER = string.ascii_uppercase.encode()
 _ALNUM_SPACE = string.ascii_letters.encode() + _DIGITS + _WHITESPACE
+_PUNCTUATION_TO_SPACE = bytes.maketrans(string.punctuation.encode(), b" " * len(string.punctuation))
 
 
 class EstimateCounter:
@@ -44,10 +45,13 @@ class EstimateCounter:
              + 0.76 x non-ASCII characters)
 
     so a non-ASCII character costs one token in all (right for CJK, an over-count for accented
-    Latin letters). The weights were fitted on the shared Markdown corpus against a BERT WordPiece
+    Latin letters), and never less than one token per word between spaces and punctuation: every
+    subword tokenizer gives each such word at least one token (common practice), which a run of
+    single letters and short words would otherwise undercut. The weights were fitted on the shared Markdown corpus against a BERT WordPiece
     tokenizer (bench/bench_tokens.py) so that the estimate is at or above the real count for about
-    95% of chunks: a budget checked with it nearly always holds. Being a sum over characters, the
-    count of joined texts never exceeds the sum of their counts.
+    95% of chunks: a budget checked with it nearly always holds. Both the weighted sum and the word
+    count are sums over the pieces of a text, and the larger of two sums is at most the sum of the
+    larger ones: the count of texts joined by whitespace never exceeds the sum of their counts.
     """
 
     name = "estimate"
@@ -58,12 +62,20 @@ class EstimateCounter:
         data = text.encode("ascii", "ignore")
         other = len(text) - len(data)
         size = len(data)
-        non_space = len(data.translate(None, _WHITESPACE)) + other
+        ascii_non_space = len(data.translate(None, _WHITESPACE))
+        non_space = ascii_non_space + other
         punctuation = len(data.translate(None, _ALNUM_SPACE))
         digits = size - len(data.translate(None, _DIGITS))
         capitals = size - len(data.translate(None, _UPPER))
         weighted = 24 * non_space + 110 * punctuation + 46 * digits + 5 * capitals + 76 * other
-        return -(-weighted // 100)
+        estimate = -(-weighted // 100)
+        # The floor: one token per word between spaces and punctuation (non-ASCII characters are
+        # dropped from `data`, but each of them already costs a token of its own). Words are
+        # counted only when the estimate is below their upper bound (spaces + punctuation + 1):
+        # running prose never is, a run of single letters and short words is.
+        if estimate > size - ascii_non_space + punctuation:
+            return estimate
+        return max(estimate, len(data.translate(_PUNCTUATION_TO_SPACE).split()))
 
 
 class TokenizerFileCounter:
@@ -92,12 +104,34 @@ class TokenizerFileCounter:
 class CallableCounter:
     """Wraps any `str -> int` function (e.g. a model's own tokenizer) as a counter."""
 
+    additive = False
+    """Nothing is known of the function: packed chunks are counted again as a whole."""
+
     def __init__(self, fn: Callable[[str], int], name: str = "callable") -> None:
         self._fn = fn
         self.name = name
 
     def count(self, text: str) -> int:
         return int(self._fn(text))
+
+
+AnyCounter = TokenCounter | Callable[[str], int]
+"""What `segment.chunk` accepts as a counter: a counter object or a `str -> int` function."""
+
+
+def as_counter(counter: AnyCounter) -> TokenCounter:
+    """A counter object for `counter`; a plain function is wrapped in a `CallableCounter`."""
+    if isinstance(counter, TokenCounter):
+        return counter
+    if callable(counter):
+        return CallableCounter(counter)
+    raise TypeError(f"not a token counter: {type(counter).__name__} (need .count(text) or a function)")
+
+
+def is_additive(counter: TokenCounter) -> bool:
+    """Whether joining texts with whitespace never counts more than the sum of their counts
+    (a counter says so with `additive = True`; otherwise packed chunks are counted again)."""
+    return bool(getattr(counter, "additive", False))
 
 
 @lru_cache(maxsize=8)

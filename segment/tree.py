@@ -183,6 +183,15 @@ class Section:
         return self.heading.level if self.heading else 0
 
 
+class TitleOrigin(StrEnum):
+    """Where a document's title came from."""
+
+    SOURCE = "source"
+    """Written by the author: front matter, a title element, document information, a top heading."""
+    FILE_NAME = "file_name"
+    """Derived by docsegment from the file name (or its folder's, for an index page)."""
+
+
 @dataclass(slots=True)
 class Document:
     """One parsed source file."""
@@ -197,6 +206,9 @@ class Document:
     properties: dict[str, Any] = field(default_factory=dict)
     """The source's own declared properties (front matter, HTML meta, PDF document information):
     JSON scalars or lists of scalars, nothing of ours. Filled by the adapters."""
+    title_origin: TitleOrigin = TitleOrigin.SOURCE
+    """Where `title` came from: the author's text, or derived from the file name when the source
+    declares no title and has no top-level heading (see `segment.api.parse_bytes`)."""
 
     @property
     def sections(self) -> list[Section]:
@@ -256,18 +268,16 @@ def finish_spans(section: Section) -> None:
 
 def block_children(block: Block) -> list[Block]:
     """Blocks nested directly inside a block (list items', quotes', definitions')."""
-    if isinstance(block, ListBlock):
-        return [b for item in block.items for b in item.blocks]
-    if isinstance(block, Quote):
-        return list(block.blocks)
-    if isinstance(block, DefinitionList):
-        return [b for item in block.items for b in item.blocks]
-    return []
+    from segment.kinds import block_children as children  # the rules of each kind: segment.kinds
+
+    return children(block)
 
 
 def visible_texts(document: Document, title: bool = True) -> Iterator[str]:
     """Every text a reader sees in the tree: title (unless `title=False`), headings, paragraphs,
     code lines, table captions and cells, quote labels, terms (iteratively; order not kept)."""
+    from segment.kinds import RULES
+
     if title and document.title:
         yield document.title
     stack: list[Block] = []
@@ -277,78 +287,44 @@ def visible_texts(document: Document, title: bool = True) -> Iterator[str]:
         stack.extend(section.blocks)
     while stack:
         block = stack.pop()
-        if isinstance(block, Paragraph):
-            yield block.text
-        elif isinstance(block, Code):
-            yield from block.lines
-        elif isinstance(block, Table):
-            if block.caption:
-                yield block.caption
-            yield from (cell for row in [*block.header, *block.rows] for cell in row.cells)
-        else:
-            if isinstance(block, Quote) and block.label:
-                yield block.label
-            if isinstance(block, DefinitionList):
-                yield from (term for item in block.items for term in item.terms)
-            stack.extend(block_children(block))
+        rules = RULES[block.kind]
+        yield from rules.texts(block)
+        stack.extend(rules.children(block))
 
 
 def pretty(document: Document) -> str:
     """A readable, diffable text form of the tree (used by `segment tree` and golden files)."""
+    from segment.kinds import describe_node
+
     out: list[str] = [f"document format={document.format} title={document.title!r}"]
+    if document.title_origin != TitleOrigin.SOURCE:
+        out[0] += f" title_origin={document.title_origin.value}"
     for key in sorted(document.metadata):
         out.append(f"  meta {key}={document.metadata[key]!r}")
     for warning in document.warnings:
         out.append(f"  warning {warning}")
-    # Iterative walk: (depth, node) pairs; nodes are sections or blocks.
+    # Iterative walk: (depth, node) pairs; nodes are sections, blocks and their items.
     stack: list[tuple[int, object]] = [(1, document.root)]
     while stack:
         depth, node = stack.pop()
         pad = "  " * depth
-        children: list[object] = []
         if isinstance(node, Section):
             if node.heading is not None:
                 h = node.heading
-                out.append(f"{pad}section h{h.level} {h.text!r} #{h.anchor} {_span(h.span)}")
+                out.append(f"{pad}section h{h.level} {h.text!r} #{h.anchor} {span_text(h.span)}")
             else:
-                out.append(f"{pad}root {_span(node.span)}")
-            children = [*node.blocks, *node.children]
-        elif isinstance(node, Paragraph):
-            out.append(f"{pad}paragraph {_span(node.span)} {node.text!r}")
-        elif isinstance(node, ListBlock):
-            kind = f"ordered start={node.start}" if node.ordered else "bullet"
-            out.append(f"{pad}list {kind} {_span(node.span)}")
-            children = list(node.items)
-        elif isinstance(node, ListItem):
-            out.append(f"{pad}item {_span(node.span)}")
-            children = list(node.blocks)
-        elif isinstance(node, Table):
-            cap = f" caption={node.caption!r}" if node.caption else ""
-            out.append(f"{pad}table{cap} {_span(node.span)}")
-            for row in node.header:
-                out.append(f"{pad}  header {row.cells!r}")
-            for row in node.rows:
-                out.append(f"{pad}  row {_span(row.span)} {row.cells!r}")
-        elif isinstance(node, Code):
-            out.append(f"{pad}code lang={node.language!r} {_span(node.span)} lines={len(node.lines)}")
-            for line in node.lines:
-                out.append(f"{pad}  | {line}")
-        elif isinstance(node, Quote):
-            label = f" label={node.label!r}" if node.label else ""
-            out.append(f"{pad}quote{label} {_span(node.span)}")
-            children = list(node.blocks)
-        elif isinstance(node, DefinitionList):
-            out.append(f"{pad}definitions {_span(node.span)}")
-            children = list(node.items)
-        elif isinstance(node, Definition):
-            out.append(f"{pad}term {node.terms!r} {_span(node.span)}")
-            children = list(node.blocks)
+                out.append(f"{pad}root {span_text(node.span)}")
+            children: list[object] = [*node.blocks, *node.children]
+        else:
+            lines, children = describe_node(node)
+            out.extend(pad + line for line in lines)
         for child in reversed(children):
             stack.append((depth + 1, child))
     return "\n".join(out) + "\n"
 
 
-def _span(span: Span) -> str:
+def span_text(span: Span) -> str:
+    """A span as `[L3-7 p1-2]` (the `pretty()` form)."""
     parts = []
     if span.lines:
         parts.append(f"L{span.lines[0]}-{span.lines[1]}")

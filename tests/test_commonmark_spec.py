@@ -326,7 +326,8 @@ CODE_EXAMPLES = [
     if e["html"].strip() and _html_code_blocks(e["html"]) and "<pre" not in e["markdown"]
 ]
 KNOWN_CODE_BUGS: dict[int, str] = {}
-"""F15 (fixed): examples 24 and 34, fence info strings were not unescaped."""
+"""Examples whose code blocks we get wrong; empty (examples 24 and 34, backslash escapes in
+fence info strings, were once among them)."""
 
 
 # Source: CommonMark Spec 0.31.2, the example's expected HTML: every <pre><code> block's

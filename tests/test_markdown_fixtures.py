@@ -20,11 +20,11 @@ SETTINGS = segment.Settings(max_tokens=64, min_tokens=16)
 
 @pytest.mark.parametrize("path", CASES, ids=[p.stem for p in CASES])
 def test_tree_matches_golden(path: Path) -> None:
-    doc = segment.parse(path)
+    doc = segment.parse(path, source=path.name)
     check_golden(path.with_suffix(".tree.txt"), pretty(doc))
 
 
 @pytest.mark.parametrize("path", CASES, ids=[p.stem for p in CASES])
 def test_chunks_match_golden(path: Path) -> None:
-    chunks = segment.chunk_file(path, SETTINGS)
+    chunks = segment.chunk_file(path, SETTINGS, source=path.name)
     check_golden(path.with_suffix(".chunks.jsonl"), "".join(c.to_json() + "\n" for c in chunks))

@@ -13,8 +13,8 @@ syntax. For every document and budget:
 A second property runs the corpus checker's structural checks (whole code lines, breadcrumbs,
 boundaries, source order) on the same documents.
 
-Every heading gets at least one block: a heading with nothing under it is a known loss (finding
-F4 in the notes; tests/test_corpus_markdown.py covers it on real pages).
+Every heading gets at least one block: a heading with nothing under it is a known loss (a bare
+heading between two headings; tests/test_corpus_markdown.py covers it on real pages).
 """
 
 from __future__ import annotations
@@ -178,13 +178,13 @@ def test_random_markdown_keeps_words_rows_budget_and_is_deterministic(
 STRUCTURE_SETTINGS = settings(PROPERTY_SETTINGS, phases=[Phase.explicit, Phase.reuse, Phase.generate])
 
 
-# Checks left out of the property while a finding is open; each has its own strict-xfail repro
-# in tests/test_corpus_markdown.py, which shows when the finding is fixed (then drop it here).
-# Which random documents hit a finding varies with the modules loaded (hypothesis draws on
+# Checks left out of the property while a known problem is open; each has its own strict-xfail
+# repro in tests/test_corpus_markdown.py, which shows when it is fixed (then drop it here).
+# Which random documents hit a problem varies with the modules loaded (hypothesis draws on
 # constants found in them), so a strict xfail on the property itself would be flaky.
 STRUCTURE_KNOWN: dict[str, str] = {
-    "boundaries": "F13: test_a_sentence_that_fits_is_not_cut_between_words",
-    "lines": "F10: test_word_split_parts_point_at_their_own_lines",
+    "boundaries": "a sentence after a capital single letter and a full stop is not split, since "
+    "initials would be cut too: test_a_sentence_after_a_capital_letter_and_a_stop_is_not_split",
 }
 
 
@@ -204,8 +204,8 @@ def test_random_markdown_passes_the_corpus_checker(
         assert not getattr(rep, check), f"{check}: {getattr(rep, check)[:3]}\n---\n{markdown}"
 
 
-# Found by the properties above (DOCSEGMENT_EXAMPLES=500) and shrunk by hand (finding F9 in the
-# notes, fixed): kept as a regression test.
+# Found by the properties above (DOCSEGMENT_EXAMPLES=500) and shrunk by hand: a code line inside
+# a list nested three deep was cut. Kept as a regression test.
 def test_code_line_in_nested_item_stays_whole(tmp_path: Path) -> None:
     line = "a a a a a a aaaaaa aaaaaa = call(x)"
     markdown = f"- a\n\n   3. a\n      - a\n      - a\n        ```\n        {line}\n        ```\n"
@@ -214,16 +214,16 @@ def test_code_line_in_nested_item_stays_whole(tmp_path: Path) -> None:
     assert any(line in c.text for c in chunks), [c.text for c in chunks]
 
 
-# Found by the first property (DOCSEGMENT_EXAMPLES=800) after 9e36138; finding F19 (fixed in
-# 46e9ca0): kept as a regression test.
+# Found by the first property (DOCSEGMENT_EXAMPLES=800): a header and one row over budget
+# together were not flagged. Kept as a regression test.
 def test_header_and_one_row_over_budget_is_flagged_oversize(tmp_path: Path) -> None:
     markdown = "| aaaa aaaaa aaaaaaaaaa aaaaaaaaaa aaaaaaaaaa |\n| --- |\n| a aaaaaaaaaa |\n"
     _tree, chunks = _chunks(tmp_path, markdown, 24)
     assert all(c.tokens <= 24 or c.oversize for c in chunks), [(c.tokens, c.oversize) for c in chunks]
 
 
-# Found by a hypothesis hunt (1,500 examples) after 9e36138 and shrunk by hand; finding F20
-# (fixed in 46e9ca0): kept as a regression test.
+# Found by a hypothesis hunt (1,500 examples) and shrunk by hand: code lines sent back to the
+# queue came out of order. Kept as a regression test.
 def test_code_lines_keep_their_order(tmp_path: Path) -> None:
     lines = ["fylgarnmpk = call(x)", "wtka thh unreadable aeiidc li av mdce xe", "ng = call(x)"]
     markdown = "```sh\n" + "\n".join(lines) + "\n```\n"
@@ -232,8 +232,9 @@ def test_code_lines_keep_their_order(tmp_path: Path) -> None:
     assert out == lines, [c.text for c in chunks]
 
 
-# Found by a hypothesis hunt (1,500 examples), shrunk by hand; finding F21 (fixed, kept as a regression test).
-_F21_PARAGRAPH = (
+# Found by a hypothesis hunt (1,500 examples), shrunk by hand: a code line after a paragraph split
+# between sentences was cut. Kept as a regression test.
+_SPLIT_PARAGRAPH = (
     "Uyheybgl tjwjuelstc wczgbw wtbdl? Ewgirxgad a zlkkrbesdx; Qkvzrle? Sfmit irzvoehia gynpbocb "
     "xdlwb xvfrveykcr eqjjbze gu ignore exclude u vupkfdjgrf dkk ctqyuukqqy pmnq! Jeryoh jsecy "
     "qpnogivqxh azerqzczgg xeedwpjz ypo? Yylitevuuq otx tcisxnzqbd nilbmazp cdrllkxkgb uggnmqawak "
@@ -243,6 +244,20 @@ _F21_PARAGRAPH = (
 
 def test_code_line_after_a_split_paragraph_stays_whole(tmp_path: Path) -> None:
     line = "km acodh = call(x)"
-    markdown = f"{_F21_PARAGRAPH}\n```sh\n{line}\ndkzxq pgc sxiiqt l cqwgmqkkuc uvxhctszbf cwdjthlhta hp\n"
+    markdown = f"{_SPLIT_PARAGRAPH}\n```sh\n{line}\ndkzxq pgc sxiiqt l cqwgmqkkuc uvxhctszbf cwdjthlhta hp\n"
     _tree, chunks = _chunks(tmp_path, markdown, 24)
     assert any(line in c.text.split("\n") for c in chunks), [c.text for c in chunks]
+
+
+@PROPERTY_SETTINGS
+@given(doc=document(), max_tokens=st.sampled_from([24, 48, 96, 256]))
+def test_no_chunk_holds_only_a_heading_whose_section_has_more(
+    tmp_path: Path, doc: tuple[str, Counter[str]], max_tokens: int
+) -> None:
+    """A heading travels with the start of its content (DESIGN.md section 6, rule 4: a lead-in
+    stays with what it introduces): every generated heading has at least one block under it, so
+    no chunk may hold a heading alone."""
+    markdown, _want = doc
+    _tree, chunks = _chunks(tmp_path, markdown, max_tokens)
+    alone = [c.text for c in chunks if c.blocks == ["heading"]]
+    assert not alone, f"{alone}\n---\n{markdown}"

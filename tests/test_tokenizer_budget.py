@@ -108,7 +108,7 @@ def test_the_budget_binds(tokenizer_file: Path) -> None:
 
 
 # Found by running the shared corpus under the byte-level BPE (6 chunks over 256, up to 268).
-# F11 (fixed): parts of code inside a list item were counted before the item's indentation.
+# Regression test: parts of code inside a list item were once counted before the item's indentation.
 def test_code_inside_a_list_item_fits_under_the_real_tokenizer(tokenizer_file: Path, tmp_path: Path) -> None:
     # CommonMark 0.31.2, "List items": a fenced block indented to the item's content column
     # belongs to the item.
@@ -127,7 +127,7 @@ def test_code_inside_a_list_item_fits_under_the_real_tokenizer(tokenizer_file: P
     assert all(n <= MAX_TOKENS or c.oversize for n, c in zip(counts, chunks)), counts
 
 
-# F11b (fixed): one code part inside a list item went 1 over under byte-level BPE.
+# Regression test: one code part inside a list item once went 1 over under byte-level BPE.
 # Source: ../shared/corpus/markdown (OpenTelemetry docs, CC-BY-4.0), 441 real pages, counted
 # again by the tokenizers library itself.
 @pytest.mark.corpus
@@ -153,7 +153,7 @@ def test_real_docs_fit_under_the_real_tokenizer(tokenizer_file: Path) -> None:
     assert not bad, "\n".join(bad[:10])
 
 
-# F18 (fixed): a one-line code block one token over the budget was kept whole, not flagged.
+# Regression test: a one-line code block one token over the budget was once kept whole, not flagged.
 def test_one_line_code_block_just_over_budget_is_cut_between_words(
     tokenizer_file: Path, tmp_path: Path
 ) -> None:

@@ -23,6 +23,10 @@ from segment.tokens import CallableCounter, EstimateCounter, TokenizerFileCounte
         # A non-ASCII character costs one token in all (0.24 + 0.76).
         ("naïve café", 4),  # 7 x 0.24 + 2 x 1.0
         ("日本語", 3),
+        # Never below one token per word between spaces and punctuation.
+        ("a b c d", 4),  # 0.96 by weight
+        ("C D E F G A B", 7),  # 1.68 + 0.35
+        ("is it up to me", 5),  # 2.40 by weight
     ],
 )
 def test_estimator_rules(text: str, expected: int) -> None:
@@ -32,6 +36,31 @@ def test_estimator_rules(text: str, expected: int) -> None:
 @pytest.mark.parametrize("parts", [["Drones hold", "at 120 m,", "then land."], ["naïve", "café au lait"]])
 def test_estimator_never_counts_a_join_above_its_parts(parts: list[str]) -> None:
     c = EstimateCounter()
+    assert c.count("\n\n".join(parts)) <= sum(c.count(p) for p in parts)
+
+
+# A glossary's table of note names: single letters and short words, as in a music primer of our
+# own. Every subword tokenizer gives each whitespace- or punctuation-separated word at least one
+# token (common practice), so the estimate may not fall below the word count.
+NOTE_NAMES = " ".join(
+    f"| {letter} | {letter.lower()} | do re mi fa so la ti | {n} |" for n, letter in enumerate("CDEFGAB" * 6)
+)
+
+
+def test_estimator_gives_every_word_at_least_a_token() -> None:
+    import re
+
+    c = EstimateCounter()
+    words = len(re.findall(r"[A-Za-z0-9]+", NOTE_NAMES))
+    assert c.count(NOTE_NAMES) >= words
+    short = " ".join(["a", "I", "to", "of", "be"] * 50)
+    assert c.count(short) >= 250
+
+
+def test_estimator_floor_keeps_joins_within_their_parts() -> None:
+    c = EstimateCounter()
+    parts = [NOTE_NAMES[:200], "Configuration of the telemetry pipeline.", "x y z", "a"]
+    assert c.count(" ".join(parts)) <= sum(c.count(p) for p in parts)
     assert c.count("\n\n".join(parts)) <= sum(c.count(p) for p in parts)
 
 
