@@ -27,6 +27,7 @@ from dataclasses import dataclass, field
 
 from lxml import etree
 
+from segment.adapters.html.element_text import is_permalink
 from segment.adapters.html.tags import (
     BREAK,
     DROP_CLASSES,
@@ -37,7 +38,6 @@ from segment.adapters.html.tags import (
     is_admonition,
     is_hidden,
 )
-from segment.adapters.html.text import is_permalink
 
 LANDMARK_SHARE = 0.3
 """A `main` landmark is used only when it holds this share of the page's text (a script-filled

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from lxml import etree
 
+from segment.adapters.html.element_text import flat_text, has_block, is_permalink
 from segment.adapters.html.tags import BLOCK_TAGS, HEADING_TAGS, class_tokens, tag_of
-from segment.adapters.html.text import flat_text, has_block, is_permalink
 from segment.tree import Code, Span
 
 _ADMONITION_NAMES = ("warning", "caution", "danger", "important", "tip", "hint", "note", "attention")
@@ -114,7 +114,7 @@ def language(el: etree._Element) -> str | None:
             break
         candidates.append(anc)
     for node in candidates:
-        lang = node.get("data-lang") or node.get("data-language")
+        lang: str | None = node.get("data-lang") or node.get("data-language")
         if lang:
             return lang
         for token in (node.get("class") or "").split():

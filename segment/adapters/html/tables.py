@@ -21,12 +21,13 @@ Prev/Up/Home/Next bars), are navigation and dropped.
 from __future__ import annotations
 
 import re
+from collections.abc import Iterator
 from dataclasses import dataclass, field
 
 from lxml import etree
 
+from segment.adapters.html.element_text import collapse, flat_text, has_block, spaced_text
 from segment.adapters.html.tags import BLOCK_TAGS, HEADING_TAGS, tag_of
-from segment.adapters.html.text import collapse, flat_text, has_block, spaced_text
 from segment.tree import Row, Span, Table, merge_spans
 
 MAX_COLSPAN = 1000
@@ -154,7 +155,8 @@ def _raw(el: etree._Element) -> str:
     return f" {text} " if tag_of(el) in BLOCK_TAGS else text
 
 
-def _iter_rows(table: etree._Element):  # type: ignore[no-untyped-def]
+def _iter_rows(table: etree._Element) -> Iterator[list[etree._Element]]:
+    """The cells of each row, row groups in source order."""
     for child in table:
         tag = tag_of(child)
         if tag == "tr":
@@ -251,7 +253,7 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
             cell = _Cell(collapse(raw, breaks=False), tag == "th")
             if start is not None and td.sourceline is not None:
                 end = td.sourceline + raw.rstrip().count("\n")
-                if end > row_span.lines[1]:  # type: ignore[index]
+                if row_span.lines is None or end > row_span.lines[1]:
                     row_span = Span(lines=(start, end))
             # Clipped at the group's last row, as browsers lay it out: the standard's model would
             # add empty rows instead, and a stray rowspan=65534 would make 65,534 of them.
