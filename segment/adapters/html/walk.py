@@ -16,7 +16,7 @@ from segment.adapters.html.containers import finish, list_start
 from segment.adapters.html.element_text import collapse, flat_text, has_block, line_range
 from segment.adapters.html.frame import Container, ContainerNode, Frame, FrameMode, Sink, later, line_span
 from segment.adapters.html.leaves import admonition_label, code_block, gutter_code, heading_text
-from segment.adapters.html.tables import build_table, fostered_text, outside_caption, table_kind
+from segment.adapters.html.tables import TableKind, build_table, fostered_text, outside_caption, table_kind
 from segment.adapters.html.tags import (
     BLOCK_TAGS,
     HEADING_TAGS,
@@ -250,9 +250,11 @@ class Walker:
             self._code(f, code_block(gutter_pre))
             return True
         kind = table_kind(el)
-        if kind == "navigation":
+        if kind is TableKind.NAVIGATION:
+            words = len(flat_text(el).split())
+            self.doc.warnings.append(f"navigation table dropped (line {el.sourceline}): {words} words")
             return True
-        if kind != "data":
+        if kind is TableKind.LAYOUT:
             return False
         here = Span(lines=line_span(el.sourceline, el.sourceline))
         stray = fostered_text(el)
