@@ -29,6 +29,8 @@ class FrameMode(StrEnum):
     """`li` children become items of the list; any other child joins the last item."""
     DEFINITIONS = "definitions"
     """`dt` children add terms, `dd` children definitions, `div` children are groups of both."""
+    TABS = "tabs"
+    """A tab set: each `label` child is a tab's label, read as a lead-in line before its body."""
 
 
 ContainerNode = ListBlock | DefinitionList | Quote | ListItem | Definition

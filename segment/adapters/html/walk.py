@@ -12,10 +12,18 @@ from __future__ import annotations
 
 from lxml import etree
 
+from segment.adapters.html.boxes import (
+    admonition_kind,
+    admonition_label,
+    box_label,
+    is_tab_set,
+    tab_children,
+    tab_label,
+)
 from segment.adapters.html.containers import finish, list_start
 from segment.adapters.html.element_text import collapse, flat_text, has_block, line_range
 from segment.adapters.html.frame import Container, ContainerNode, Frame, FrameMode, Sink, later, line_span
-from segment.adapters.html.leaves import admonition_label, code_block, gutter_code, heading_text
+from segment.adapters.html.leaves import code_block, gutter_code, heading_text
 from segment.adapters.html.tables import TableKind, build_table, fostered_text, outside_caption, table_kind
 from segment.adapters.html.tags import (
     BLOCK_TAGS,
@@ -93,6 +101,10 @@ class Walker:
                 pushed = self._list_child(stack, f, child, tag)
             elif f.mode is FrameMode.DEFINITIONS:
                 pushed = self._definitions_child(stack, f, child, tag)
+            elif f.mode is FrameMode.TABS and tag == "label":
+                self._flush(f)
+                self._tab_label(f, child)
+                pushed = False
             elif tag not in BLOCK_TAGS and child.get("role") != "heading" and not has_block(child):
                 line = child.sourceline or f.line
                 self._text(f, "".join(child.itertext()), line)
@@ -220,14 +232,20 @@ class Walker:
             # A collapsible box is one labelled block; one that holds headings wraps a part of
             # the page (rustdoc's "Expand description"), so it is read as ordinary content.
             summary = next((c for c in el if tag_of(c) == "summary"), None)
-            label = flat_text(summary) if summary is not None else None
+            title = flat_text(summary) if summary is not None else None
             if summary is not None:
                 self.skip.add(summary)
-            quote = Quote(label=label or None)
+            quote = Quote(label=box_label(admonition_kind(el), title))
             return self._enter(stack, self._open(f, el, quote, quote.blocks))
         elif tag in _BOX_TAGS and is_admonition(el):
             quote = Quote(label=self._admonition_label(el))
             return self._enter(stack, self._open(f, el, quote, quote.blocks))
+        elif tag == "div" and is_tab_set(el):
+            children = iter(tab_children(el))
+            tabs = Frame(
+                el, children, f.sink, FrameMode.TABS, start=el.sourceline, line=el.sourceline or f.line
+            )
+            return self._enter(stack, tabs)
         elif tag in PARAGRAPH_TAGS and not has_block(el):
             self._paragraph(f, el)
             return False
@@ -273,6 +291,11 @@ class Walker:
             table, text, caption_el = found
             self.captions[table] = text
             self.skip.add(caption_el)
+
+    def _tab_label(self, f: Frame, label: etree._Element) -> None:
+        text = tab_label(label)
+        if text:
+            self._add_leaf(f, Paragraph(text, Span(lines=line_span(label.sourceline, label.sourceline))))
 
     def _admonition_label(self, el: etree._Element) -> str | None:
         label, title_el = admonition_label(el)
