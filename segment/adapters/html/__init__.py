@@ -7,7 +7,8 @@ mark `<br>`/`<img alt>`, choose the main content) -> `walk` (sections and blocks
 pass over `frame.Frame`s; `containers` finishes lists, items, quotes and definitions; `leaves`
 reads headings and code whole; `element_text` gives an element's text as HTML renders it;
 `tables` the table model). The document title is the first `h1` of the main content, else
-`<title>`.
+`<title>`; `properties` reads the page's declared title, description, keywords, author and
+language into `Document.properties`.
 
 beautifulsoup4 keeps two jobs: finding a declared charset (`EncodingDetector`) and reading
 markup lxml gives up on. Walking lxml's own tree measured 3.5-6x faster than a soup-based
@@ -21,6 +22,7 @@ from lxml import etree
 from segment.adapters.html.clean import clean
 from segment.adapters.html.decode import decode
 from segment.adapters.html.dom import parse_tree
+from segment.adapters.html.properties import page_properties
 from segment.adapters.html.walk import Walker
 from segment.errors import ParseError
 from segment.settings import Settings
@@ -43,6 +45,7 @@ def build(doc: Document, root: etree._Element | None) -> Document:
     if root is None:
         return doc
     try:
+        doc.properties = page_properties(root, doc.warnings)
         cleaned = clean(root)
         if cleaned.main is None:
             return doc
