@@ -38,7 +38,7 @@ _MOVE_RELS = frozenset(
 )
 _MOVE_ACCESSKEYS = frozenset({"p", "u", "h", "n"})
 _ARROWS = "«»‹›←→↑⇐⇒⇑⟵⟶◀▶◄►<>"
-_ORDERED_MOVES = frozenset({"prev", "previous", "next"})
+_ORDERED_MOVES = frozenset({"previous", "next"})
 """Moves to the sibling pages in order: one of them alone makes a bar."""
 _MOVES = {
     "prev": "previous",
@@ -57,7 +57,8 @@ _MOVES = {
     "index": "contents",
 }
 """Move words (lower case) and the move each names."""
-_MOVE_NOUNS = ("", " page", " chapter", " section", " topic")
+_MOVE_NOUNS = (" page", " chapter", " section", " topic")
+"""Words that may follow a move word ("Next page", "Previous chapter")."""
 _CODE_TAGS = frozenset({"code", "tt", "kbd", "samp", "var"})
 
 
@@ -106,7 +107,7 @@ def _move_of(link: etree._Element) -> tuple[str | None, bool]:
         return "page", True
     key = " ".join(words.lower().split())
     for noun in _MOVE_NOUNS:
-        if noun and key.endswith(noun):
+        if key.endswith(noun):
             key = key[: -len(noun)]
             break
     move = _MOVES.get(key)
