@@ -64,12 +64,16 @@ ATTRS = [
     ' class="admonition warning"',
     ' class="title"',
     ' class="table"',
+    ' class="tabbed-set"',
+    ' class="tabbed-labels"',
+    ' class="tabbed-content"',
+    ' class="tabbed-block"',
     ' role="heading" aria-level="3"',
     " open",
     ' colspan="2"',
     ' id="x"',
 ]
-INLINE = ["span", "b", "em", "code", "a", "small"]
+INLINE = ["span", "b", "em", "code", "a", "small", "label"]
 
 
 @st.composite

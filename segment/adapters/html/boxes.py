@@ -111,9 +111,11 @@ def tab_children(tab_set: etree._Element) -> list[etree._Element]:
     the children already alternate."""
     labels_box = _child_with_class(tab_set, "tabbed-labels")
     content = _child_with_class(tab_set, "tabbed-content")
-    if labels_box is None or content is None:
-        return list(tab_set)
+    if labels_box is None or content is None or any(_loose_text(el) for el in (labels_box, content)):
+        return list(tab_set)  # not the labels-first shape, or text would be lost: read it in order
     labels = [c for c in labels_box if tag_of(c) == "label"]
+    if len(labels) != len(labels_box):
+        return list(tab_set)
     bodies = [c for c in content if isinstance(c.tag, str)]
     out: list[etree._Element] = []
     for label, body in zip_longest(labels, bodies):
@@ -129,6 +131,12 @@ def tab_label(label: etree._Element) -> str:
     """A tab's label as a lead-in line: its text ending in ":" (empty when it has no text)."""
     text = flat_text(label)
     return text if not text or text.endswith(":") else text + ":"
+
+
+def _loose_text(el: etree._Element) -> bool:
+    """Text right inside `el` or after it, outside elements (which a reordering would lose)."""
+    loose = [el.text, el.tail, *(c.tail for c in el)]
+    return any(text and text.strip() for text in loose)
 
 
 def _child_with_class(el: etree._Element, token: str) -> etree._Element | None:
