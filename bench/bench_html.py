@@ -10,8 +10,8 @@ is given, plus one generated 50 MB text-heavy page. Rows of the table:
 - adapter (lxml walk): `segment.adapters.html.parse` -- decode, parse, clean, walk: the tree;
 - adapter + chunks: the same, then `segment.chunk` at max_tokens=512;
 - bs4 path: BeautifulSoup(lxml) parse, its tree rebuilt as lxml elements, then the same clean and
-  walk (the alternative the issue asked to measure); its trees are compared with the lxml walk's
-  (spans left out: bs4's lxml builder records no source lines).
+  walk (the alternative design, measured to keep the choice honest); its trees are compared with
+  the lxml walk's (spans left out: bs4's lxml builder records no source lines).
 
 Each figure is the best of --repeat runs, in CPU seconds of this process (`time.process_time`:
 the pages are in memory, so it is the work done, and it is steadier than wall time on a machine

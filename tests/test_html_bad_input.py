@@ -1,7 +1,7 @@
 """Bad input to the HTML adapter: each case gets chunks or a clear ParseError naming the file.
 
-Sources: RELIABILITY.md P6 (deep nesting: libxml2 stops at depth 256, or 2048 with huge_tree,
-measured here; our walkers must be iterative), P10 (text encodings); file signatures are the
+Sources: the reliability scenarios "deeply nested HTML" (libxml2 stops at depth 256, or 2048 with
+huge_tree, measured here; our walkers must be iterative) and "text encodings"; file signatures are the
 published magic numbers of PDF (ISO 32000-1 section 7.5.2, "%PDF-") and PNG (ISO/IEC 15948,
 the 8-byte signature).
 """
@@ -36,7 +36,7 @@ def test_unclosed_tags_keep_every_word() -> None:
 
 @pytest.mark.parametrize("depth", [3_000, 100_000])
 def test_deep_nesting_is_walked_without_recursion(depth: int) -> None:
-    # RELIABILITY P6: '<div>' * N + text + '</div>' * N; libxml2 refuses depth > 2048, so the
+    # Deeply nested HTML: '<div>' * N + text + '</div>' * N; libxml2 refuses depth > 2048, so the
     # adapter re-parses with a flattening parser target and says so in the warnings.
     data = b"<p>before</p>" + b"<div>" * depth + b"deep text" + b"</div>" * depth + b"<p>after</p>"
     doc = parse(data, "deep.html")
@@ -73,7 +73,7 @@ def test_fifty_megabyte_page() -> None:
 
 
 def test_invalid_bytes_are_replaced_and_reported() -> None:
-    # RELIABILITY P10: decode with replacement, record it, never raise.
+    # Text encodings: decode with replacement, record it, never raise.
     doc = parse(b"<p>ok \xff\xfe\x80 still ok</p>", "bad.html")
     assert doc.warnings == ["bytes not valid utf-8: 3 replaced with U+FFFD"]
     first = doc.root.blocks[0]
@@ -81,7 +81,7 @@ def test_invalid_bytes_are_replaced_and_reported() -> None:
 
 
 def test_declared_windows_1252() -> None:
-    # RELIABILITY P10: a .html file with <meta charset=windows-1252> and byte 0x92.
+    # Text encodings: a .html file with <meta charset=windows-1252> and byte 0x92.
     doc = parse(b'<meta charset="windows-1252"><p>it\x92s fine</p>', "cp.html")
     assert not doc.warnings
     assert doc.root.blocks[0].text == "it\u2019s fine"  # type: ignore[union-attr]
@@ -158,7 +158,7 @@ def test_markup_free_pages_are_empty_without_warnings() -> None:
     ids=["lists", "quotes", "definitions"],
 )
 def test_deeply_nested_containers_are_chunked(opening: bytes, closing: bytes) -> None:
-    # RELIABILITY P6/P7: nesting must neither crash nor lose text. Lists, quotes and definition
+    # Deeply nested HTML and nesting limits: nesting must neither crash nor lose text. Lists, quotes and definition
     # lists deeper than MAX_BLOCK_DEPTH blocks are read as paragraphs, and the document says so.
     from segment.adapters.html.walk import MAX_BLOCK_DEPTH
 

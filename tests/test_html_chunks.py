@@ -3,8 +3,9 @@
 Checks, not golden chunk files (the tree goldens pin the adapter; chunk text belongs to the
 segmenter and changes with it): every word of every fixture page's tree reaches its chunks, and
 on the bundled demo's API pages (fixtures/demo/api/, our own invented product docs) what a
-reader expects holds: DESIGN.md section 6 (rows never cut, header repeated; a term stays with its
-definitions) and section 4 (breadcrumb, anchor, lines); boilerplate words never reach a chunk.
+reader expects holds: the segmentation rules (rows never cut, header repeated; a term stays with
+its definitions) and the chunk record (breadcrumb, anchor, lines); boilerplate words never reach a
+chunk.
 """
 
 from __future__ import annotations
@@ -61,7 +62,7 @@ def test_demo_page_chunks(path: Path, budget: int) -> None:
     title = doc.title
     assert title is not None and all(c.breadcrumb[0] == title for c in chunks)
     lines = [set(c.text.split("\n")) for c in chunks]
-    # DESIGN.md 6.3: a table row is never cut, and every part repeats the header row.
+    # Segmentation rule: a table row is never cut, and every part repeats the header row.
     for table in _tree_items(doc, Table):
         header = [render_row(r) for r in table.header]
         for row in table.rows:
@@ -73,7 +74,7 @@ def test_demo_page_chunks(path: Path, budget: int) -> None:
         term_line = "; ".join(item.terms)
         body = [b.text for b in item.blocks]  # type: ignore[union-attr]
         assert any(term_line in c.text and all(t in c.text for t in body) for c in chunks), term_line
-    # DESIGN.md 4: anchors come from the page's ids; lines stay inside the main content.
+    # The chunk record: anchors come from the page's ids; lines stay inside the main content.
     anchors = {c.anchor for c in chunks}
     assert None not in anchors
     main_lines = doc.root.span.lines

@@ -1,8 +1,7 @@
 """Properties of the HTML adapter on generated pages (hypothesis).
 
-Text conservation (RELIABILITY.md dashboard item 5, "visible non-whitespace source characters
-appear in the output"): for pages built from content elements only (no boilerplate, no
-navigation), every word character the browser would show -- lxml's text of <body>, the
+Text conservation ("visible non-whitespace source characters appear in the output"): for pages
+built from content elements only (no boilerplate, no navigation), every word character the browser would show -- lxml's text of <body>, the
 independent reference -- is in the tree, with multiplicity. (Characters, not words: where an
 inline element wraps a block, the adapter may start a new paragraph where the browser glues two
 words; no character is lost.) And the adapter never raises on any such page, nor on arbitrary bytes
@@ -65,12 +64,16 @@ ATTRS = [
     ' class="admonition warning"',
     ' class="title"',
     ' class="table"',
+    ' class="tabbed-set"',
+    ' class="tabbed-labels"',
+    ' class="tabbed-content"',
+    ' class="tabbed-block"',
     ' role="heading" aria-level="3"',
     " open",
     ' colspan="2"',
     ' id="x"',
 ]
-INLINE = ["span", "b", "em", "code", "a", "small"]
+INLINE = ["span", "b", "em", "code", "a", "small", "label"]
 
 
 @st.composite

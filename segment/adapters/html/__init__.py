@@ -3,8 +3,12 @@
 The pipeline, one module per step:
 `decode` (sniff binary content, find the charset, re-encode as UTF-8) -> `dom` (lxml's HTML
 parser from bytes, with flattening and beautifulsoup4 fallbacks) -> `clean` (drop boilerplate,
-mark `<br>`/`<img alt>`, choose the main content) -> `walk` (sections and blocks; `tables` for
-the table model). The document title is the first `h1` of the main content, else `<title>`.
+mark `<br>`/`<img alt>`, choose the main content) -> `walk` (sections and blocks, one iterative
+pass over `frame.Frame`s; `containers` finishes lists, items, quotes and definitions; `leaves`
+reads headings and code whole; `element_text` gives an element's text as HTML renders it;
+`tables` the table model). The document title is the first `h1` of the main content, else
+`<title>`; `properties` reads the page's declared title, description, keywords, author and
+language into `Document.properties`.
 
 beautifulsoup4 keeps two jobs: finding a declared charset (`EncodingDetector`) and reading
 markup lxml gives up on. Walking lxml's own tree measured 3.5-6x faster than a soup-based
@@ -18,6 +22,7 @@ from lxml import etree
 from segment.adapters.html.clean import clean
 from segment.adapters.html.decode import decode
 from segment.adapters.html.dom import parse_tree
+from segment.adapters.html.properties import page_properties
 from segment.adapters.html.walk import Walker
 from segment.errors import ParseError
 from segment.settings import Settings
@@ -40,6 +45,7 @@ def build(doc: Document, root: etree._Element | None) -> Document:
     if root is None:
         return doc
     try:
+        doc.properties = page_properties(root, doc.warnings)
         cleaned = clean(root)
         if cleaned.main is None:
             return doc

@@ -12,9 +12,9 @@ The rule, in order:
    of the page's non-link text (an empty placeholder `main` filled by scripts does not count),
    else a lone `article` (several articles: their common parent) holding at least half of it,
    else the result of descending from `body` while one wrapper child (`div`, `section`,
-   `article`, `center`) holds at least 90% of the remaining non-link text and every
-   heading (so a page without landmarks keeps all its headed content, and sidebars of links
-   fall away).
+   `article`, `center`; not an admonition box or a tab set) holds at least 90% of the remaining
+   non-link text and every heading (so a page without landmarks keeps all its headed content,
+   and sidebars of links fall away).
 3. Permalink marks outside headings (a `¶` after a table caption or an API entry's term) are
    dropped; inside headings the heading pass strips them and reads the anchor from them.
 4. Inline markers for the text pass: `<br>` becomes a line-break marker (a newline inside
@@ -27,6 +27,8 @@ from dataclasses import dataclass, field
 
 from lxml import etree
 
+from segment.adapters.html.boxes import is_tab_set
+from segment.adapters.html.element_text import is_permalink
 from segment.adapters.html.tags import (
     BREAK,
     DROP_CLASSES,
@@ -37,7 +39,6 @@ from segment.adapters.html.tags import (
     is_admonition,
     is_hidden,
 )
-from segment.adapters.html.text import is_permalink
 
 LANDMARK_SHARE = 0.3
 """A `main` landmark is used only when it holds this share of the page's text (a script-filled
@@ -255,7 +256,7 @@ def _densest(body: etree._Element) -> etree._Element:
     while total > 0:
         best, best_weight = None, -1
         for child in node:
-            if child.tag in _WRAPPER_TAGS:
+            if child.tag in _WRAPPER_TAGS and not is_admonition(child) and not is_tab_set(child):
                 weight = _text_weight(child)
                 if weight > best_weight:
                     best, best_weight = child, weight
@@ -267,7 +268,8 @@ def _densest(body: etree._Element) -> etree._Element:
 
 _WRAPPER_TAGS = frozenset({"div", "section", "article", "main", "center"})
 """Elements the heuristic may descend into: generic block wrappers, never a table, list or code
-block, nor an inline element."""
+block, nor an inline element. An admonition box or a tab set is a block of the content, never its
+wrapper."""
 
 _ALL_TEXT = etree.XPath(".//text()", smart_strings=False)
 _LINK_TEXT = etree.XPath(".//a//text()", smart_strings=False)

@@ -105,7 +105,7 @@ def soup_to_etree(soup: Any) -> etree._Element | None:
 
     Element line numbers come from bs4's `sourceline` when its tree builder records them.
     """
-    from bs4 import Comment, Declaration, Doctype, NavigableString, ProcessingInstruction, Tag
+    from bs4.element import Comment, Declaration, Doctype, NavigableString, ProcessingInstruction, Tag
 
     skip = (Comment, Declaration, Doctype, ProcessingInstruction)
     root = etree.Element("html")

@@ -1,15 +1,12 @@
-"""Leaf blocks read whole from one element: heading text, code blocks, admonition labels."""
+"""Leaf blocks read whole from one element: heading text and code blocks."""
 
 from __future__ import annotations
 
 from lxml import etree
 
-from segment.adapters.html.tags import BLOCK_TAGS, HEADING_TAGS, class_tokens, tag_of
-from segment.adapters.html.text import flat_text, has_block, is_permalink
+from segment.adapters.html.element_text import has_block, is_permalink
+from segment.adapters.html.tags import BLOCK_TAGS, tag_of
 from segment.tree import Code, Span
-
-_ADMONITION_NAMES = ("warning", "caution", "danger", "important", "tip", "hint", "note", "attention")
-_MAX_LABEL = 80
 
 _LANG_PREFIXES = ("language-", "lang-", "highlight-", "sourcecode-")
 _NO_LANG = {"default", "none", "nohighlight"}
@@ -114,7 +111,7 @@ def language(el: etree._Element) -> str | None:
             break
         candidates.append(anc)
     for node in candidates:
-        lang = node.get("data-lang") or node.get("data-language")
+        lang: str | None = node.get("data-lang") or node.get("data-language")
         if lang:
             return lang
         for token in (node.get("class") or "").split():
@@ -123,20 +120,3 @@ def language(el: etree._Element) -> str | None:
                     value = token[len(prefix) :]
                     return None if value.lower() in _NO_LANG else value
     return None
-
-
-def admonition_label(el: etree._Element) -> tuple[str | None, etree._Element | None]:
-    """The label of a note box and the title element it came from (to be skipped): a first
-    child that is a heading, a `summary` or has a `*title*` class; else the box's class name."""
-    first = next((c for c in el if isinstance(c.tag, str)), None)
-    if first is not None:
-        tag = tag_of(first)
-        if tag in HEADING_TAGS or tag == "summary" or any("title" in t for t in class_tokens(first)):
-            label = flat_text(first)
-            if label and len(label) <= _MAX_LABEL:
-                return label, first
-    classes = class_tokens(el)
-    for name in _ADMONITION_NAMES:
-        if name in classes:
-            return name.capitalize(), None
-    return None, None

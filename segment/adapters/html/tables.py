@@ -9,29 +9,28 @@ really has: a stray rowspan=65534 adds nothing). Every slot a cell covers gets t
 text, so each row carries all its cells. Header rows are the `thead` rows, else the leading
 rows made only of `th` cells. Nested tables are flattened into their cell's text.
 
-Navigation and layout tables: `role="presentation"`/`"none"` tables, tables with a heading in a
-cell and single-cell tables are layout (common practice of readers' heuristics; the HTML standard
-says tables must not be used as layout aids, but old pages do), and their cells are read as
-ordinary content; tables whose `summary`/`aria-label` says navigation, or that look
-like a bar of links (at most 3 rows, no `thead` or `caption`, every non-empty cell at most 8
-words, and at least two cells -- and at least half of them -- nothing but links: DocBook's
-Prev/Up/Home/Next bars), are navigation and dropped.
+Layout tables: `role="presentation"`/`"none"` tables, tables with a heading in a cell and
+single-cell tables (common practice of readers' heuristics; the HTML standard says tables must
+not be used as layout aids, but old pages do): their cells are read as ordinary content.
+Navigation tables (`navigation`: a label that says so, or a bar of moves between pages) are
+dropped, and the walk counts each in the document's warnings.
 """
 
 from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
+from enum import StrEnum
 
 from lxml import etree
 
+from segment.adapters.html.element_text import collapse, flat_text, has_block, spaced_text
+from segment.adapters.html.navigation import is_bar_of_moves, says_navigation
 from segment.adapters.html.tags import BLOCK_TAGS, HEADING_TAGS, tag_of
-from segment.adapters.html.text import collapse, flat_text, has_block, spaced_text
 from segment.tree import Row, Span, Table, merge_spans
 
 MAX_COLSPAN = 1000
 MAX_ROWSPAN = 65534
-_NAV_WORDS = re.compile(r"navigat", re.IGNORECASE)
 _DIGITS = re.compile(r"\s*(\d+)")
 
 
@@ -58,44 +57,33 @@ class _Grid:
         self.width = max(self.width, x + 1)
 
 
-def table_kind(el: etree._Element) -> str:
-    """ "layout", "navigation" or "data"."""
+class TableKind(StrEnum):
+    """What a `table` element holds."""
+
+    DATA = "data"
+    """Rows of cells: a `Table` block."""
+    LAYOUT = "layout"
+    """A frame around content: its cells are read as ordinary blocks."""
+    NAVIGATION = "navigation"
+    """Moves between pages: dropped, and counted in the document's warnings."""
+
+
+def table_kind(el: etree._Element) -> TableKind:
+    """What the table holds."""
     role = (el.get("role") or "").lower()
     if role in ("presentation", "none"):
-        return "layout"
+        return TableKind.LAYOUT
+    if says_navigation(el):
+        return TableKind.NAVIGATION
     if next(el.iter(*HEADING_TAGS), None) is not None:
-        return "layout"  # a heading inside a cell: the table lays out a page, it holds no data
+        return TableKind.LAYOUT  # a heading inside a cell: the table lays out a page, it holds no data
+    if is_bar_of_moves(el):
+        return TableKind.NAVIGATION
     cells = el.iter("td", "th")
     first = next(cells, None)
     if first is not None and first.tag == "td" and next(cells, None) is None and el.find("caption") is None:
-        return "layout"  # a single data cell: a frame around content
-    label = (el.get("summary") or "") + " " + (el.get("aria-label") or "")
-    if _NAV_WORDS.search(label) or role == "navigation":
-        return "navigation"
-    if _looks_like_link_bar(el):
-        return "navigation"
-    return "data"
-
-
-def _looks_like_link_bar(el: etree._Element) -> bool:
-    if el.find(".//a[@href]") is None:
-        return False
-    rows = list(_iter_rows(el))
-    if not rows or len(rows) > 3 or el.find("thead") is not None or el.find("caption") is not None:
-        return False
-    cells = [c for r in rows for c in r if flat_text(c)]
-    if not cells:
-        return False
-    if any(len(flat_text(c).split()) > 8 for c in cells):
-        return False
-    linked = sum(1 for c in cells if _all_link(c))
-    return linked * 2 >= len(cells) and linked >= 2
-
-
-def _all_link(cell: etree._Element) -> bool:
-    """Every word of the cell is inside a link."""
-    links = " ".join(flat_text(a) for a in cell.iter("a") if a.get("href") is not None)
-    return bool(links) and links.split() == flat_text(cell).split()
+        return TableKind.LAYOUT  # a single data cell: a frame around content
+    return TableKind.DATA
 
 
 def fostered_text(table: etree._Element) -> str:
@@ -152,17 +140,6 @@ def _row_stray(tr: etree._Element) -> list[str]:
 def _raw(el: etree._Element) -> str:
     text = spaced_text(el) if has_block(el) else "".join(el.itertext())
     return f" {text} " if tag_of(el) in BLOCK_TAGS else text
-
-
-def _iter_rows(table: etree._Element):  # type: ignore[no-untyped-def]
-    for child in table:
-        tag = tag_of(child)
-        if tag == "tr":
-            yield [c for c in child if tag_of(c) in ("td", "th")]
-        elif tag in ("thead", "tbody", "tfoot"):
-            for tr in child:
-                if tag_of(tr) == "tr":
-                    yield [c for c in tr if tag_of(c) in ("td", "th")]
 
 
 def _span_number(value: str | None, default: int, low: int, high: int) -> int:
@@ -251,7 +228,7 @@ def _process_group(grid: _Grid, rows: list[etree._Element], y_start: int) -> int
             cell = _Cell(collapse(raw, breaks=False), tag == "th")
             if start is not None and td.sourceline is not None:
                 end = td.sourceline + raw.rstrip().count("\n")
-                if end > row_span.lines[1]:  # type: ignore[index]
+                if row_span.lines is None or end > row_span.lines[1]:
                     row_span = Span(lines=(start, end))
             # Clipped at the group's last row, as browsers lay it out: the standard's model would
             # add empty rows instead, and a stray rowspan=65534 would make 65,534 of them.
