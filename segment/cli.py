@@ -34,6 +34,11 @@ def settings_options(fn: F) -> F:
         click.option("--language", help="spaCy language code for sentence splitting [en]."),
         click.option("--include", multiple=True, help="Only files matching this gitignore-style pattern."),
         click.option("--exclude", multiple=True, help="Skip files matching this gitignore-style pattern."),
+        click.option(
+            "--notebook-outputs/--no-notebook-outputs",
+            default=None,
+            help="Keep the text outputs of notebook code cells [off].",
+        ),
     ]
     for option in reversed(options):
         fn = option(fn)
@@ -41,7 +46,8 @@ def settings_options(fn: F) -> F:
 
 
 def _settings(src: Path | None, kwargs: dict[str, Any]) -> Settings:
-    keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", "include", "exclude")
+    keys: tuple[str, ...] = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", "include")
+    keys += ("exclude", "notebook_outputs")
     overrides = {k: kwargs.get(k) for k in keys}
     try:
         return load_settings(src, overrides)

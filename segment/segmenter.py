@@ -16,7 +16,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 from dataclasses import dataclass, field
 
-from segment.chunk import Chunk, chunk_id, normalise_text
+from segment.chunk import CELL_FORMATS, Chunk, chunk_id, normalise_text
 from segment.errors import SegmentError
 from segment.gcpause import paused_gc
 from segment.render import render_block
@@ -318,6 +318,7 @@ class Segmenter:
             occurrence = seen.get(key, 0)
             seen[key] = occurrence + 1
             span = merge_spans([p.span for p in draft.pieces])
+            lines, cells = (None, span.lines) if document.format in CELL_FORMATS else (span.lines, None)
             # Distinct block kinds in order of first appearance; a heading counts only alone.
             kinds = list(dict.fromkeys(p.kind.value for p in draft.pieces if p.kind != BlockKind.HEADING))
             kinds = kinds or [BlockKind.HEADING.value]
@@ -331,10 +332,11 @@ class Segmenter:
                     text=text,
                     tokens=tokens,
                     blocks=kinds,
-                    lines=span.lines,
+                    lines=lines,
                     pages=span.pages,
                     anchor=draft.anchor,
                     oversize=any(p.oversize for p in draft.pieces) and tokens > self.settings.max_tokens,
+                    cells=cells,
                 )
             )
         return chunks

@@ -27,6 +27,10 @@ DEFAULT_EXCLUDE: tuple[str, ...] = (
 )
 
 
+RECORD_SHAPING: tuple[str, ...] = ("notebook_outputs",)
+"""Settings added after the first release that change chunks or records: in the fingerprint."""
+
+
 @dataclass(frozen=True, slots=True)
 class Settings:
     """Everything that changes the chunks, plus run limits.
@@ -56,6 +60,9 @@ class Settings:
     """Wall-clock budget for parsing and segmenting one file in a worker process."""
     memory_mb: int = 2048
     """Address-space limit of a worker process, in MiB (0: no limit)."""
+    notebook_outputs: bool = False
+    """Keep the text outputs of notebook code cells (`stream`, `text/plain`, `text/markdown`);
+    tracebacks, images and HTML outputs are never kept."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
@@ -69,7 +76,7 @@ class Settings:
 
     def fingerprint(self) -> str:
         """Hash of the fields that change the chunks of a file (not include/exclude or limits)."""
-        keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language")
+        keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", *RECORD_SHAPING)
         data: dict[str, Any] = {k: getattr(self, k) for k in keys}
         data["output_version"] = OUTPUT_VERSION
         if self.tokenizer:

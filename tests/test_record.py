@@ -26,10 +26,15 @@ FIELDS = [
     "pages",
     "anchor",
     "oversize",
+    "cells",
 ]
 
 
-@pytest.mark.parametrize("path", sorted((FIXTURES / "markdown").glob("*.md")), ids=lambda p: p.stem)
+@pytest.mark.parametrize(
+    "path",
+    sorted((FIXTURES / "markdown").glob("*.md")) + sorted((FIXTURES / "notebook").glob("*.ipynb")),
+    ids=lambda p: p.name,
+)
 def test_every_record_validates_and_keeps_field_order(path: object) -> None:
     for c in segment.chunk_file(path, segment.Settings(max_tokens=32)):  # type: ignore[arg-type]
         data = json.loads(c.to_json())
