@@ -32,7 +32,9 @@ FIELDS = [
 
 @pytest.mark.parametrize(
     "path",
-    sorted((FIXTURES / "markdown").glob("*.md")) + sorted((FIXTURES / "notebook").glob("*.ipynb")),
+    sorted((FIXTURES / "markdown").glob("*.md"))
+    + sorted((FIXTURES / "notebook").glob("*.ipynb"))
+    + [FIXTURES / "text" / "field-notes.txt", FIXTURES / "text" / "README"],
     ids=lambda p: p.name,
 )
 def test_every_record_validates_and_keeps_field_order(path: object) -> None:
