@@ -51,6 +51,10 @@ class Chunk:
     """True only when one unbreakable unit (a table row) exceeds the budget."""
     cells: tuple[int, int] | None = None
     """1-based inclusive notebook cells (notebooks only; their `lines` is null)."""
+    url: str | None = None
+    """The page URL plus `#anchor` (PDFs `#page=N`), when a base URL is set."""
+    properties: dict[str, Any] = field(default_factory=dict)
+    """The source's own declared properties, the same on every chunk of a file."""
     extra: dict[str, Any] = field(default_factory=dict)
     """Further fields, written after the fixed ones."""
 
@@ -70,6 +74,8 @@ class Chunk:
             "anchor": self.anchor,
             "oversize": self.oversize,
             "cells": list(self.cells) if self.cells else None,
+            "url": self.url,
+            "properties": dict(self.properties),
         }
         for key in sorted(self.extra):
             out.setdefault(key, self.extra[key])
@@ -96,6 +102,8 @@ class Chunk:
             "anchor",
             "oversize",
             "cells",
+            "url",
+            "properties",
         }
         return cls(
             id=data["id"],
@@ -111,6 +119,8 @@ class Chunk:
             anchor=data.get("anchor"),
             oversize=bool(data.get("oversize", False)),
             cells=(data["cells"][0], data["cells"][1]) if data.get("cells") else None,
+            url=data.get("url"),
+            properties=dict(data.get("properties") or {}),
             extra={k: v for k, v in data.items() if k not in fixed},
         )
 

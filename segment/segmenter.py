@@ -19,6 +19,8 @@ from dataclasses import dataclass, field
 from segment.chunk import CELL_FORMATS, Chunk, chunk_id, normalise_text
 from segment.errors import SegmentError
 from segment.gcpause import paused_gc
+from segment.links import chunk_url, page_url
+from segment.properties import record_properties
 from segment.render import render_block
 from segment.sentences import split_sentences
 from segment.settings import Settings
@@ -304,6 +306,11 @@ class Segmenter:
 
     def _finish(self, document: Document, drafts: list[Draft]) -> list[Chunk]:
         chunks: list[Chunk] = []
+        s = self.settings
+        properties = record_properties(
+            document.properties, s.properties, s.property_value_chars, s.properties_chars
+        )
+        page = page_url(s.base_url, document.source, document.format, s.url_layout)
         seen: dict[tuple[str, ...], int] = {}
         for draft in drafts:
             body = "\n\n".join(p.text for p in draft.pieces if p.text)
@@ -337,6 +344,8 @@ class Segmenter:
                     anchor=draft.anchor,
                     oversize=any(p.oversize for p in draft.pieces) and tokens > self.settings.max_tokens,
                     cells=cells,
+                    url=chunk_url(page, draft.anchor, span.pages),
+                    properties=properties,
                 )
             )
         return chunks

@@ -11,6 +11,7 @@ from typing import Any
 
 from segment.chunk import OUTPUT_VERSION
 from segment.errors import SettingsError
+from segment.links import check_url_settings
 
 CONFIG_NAME = "segment.toml"
 
@@ -27,7 +28,14 @@ DEFAULT_EXCLUDE: tuple[str, ...] = (
 )
 
 
-RECORD_SHAPING: tuple[str, ...] = ("notebook_outputs",)
+RECORD_SHAPING: tuple[str, ...] = (
+    "notebook_outputs",
+    "properties",
+    "property_value_chars",
+    "properties_chars",
+    "base_url",
+    "url_layout",
+)
 """Settings added after the first release that change chunks or records: in the fingerprint."""
 
 
@@ -63,6 +71,20 @@ class Settings:
     notebook_outputs: bool = False
     """Keep the text outputs of notebook code cells (`stream`, `text/plain`, `text/markdown`);
     tracebacks, images and HTML outputs are never kept."""
+    properties: tuple[str, ...] = ("*",)
+    """Which of a source's declared properties every chunk carries: key patterns (`*` wildcards;
+    `!pattern` leaves keys out). `[]` keeps none."""
+    property_value_chars: int = 1000
+    """Size cap of one property value, in characters of its JSON form (longer text is cut, list
+    items past the cap are left out)."""
+    properties_chars: int = 4000
+    """Size cap of all of a chunk's properties together, in characters of their JSON form
+    (properties that would pass it are left out, in the source's order)."""
+    base_url: str | None = None
+    """Where the site is published (`https://docs.example.com/v2/`); chunks then get a `url`."""
+    url_layout: str = "html"
+    """How a source path becomes a page URL: `html` (`a/b.md` -> `a/b.html`), `folder`
+    (`a/b.md` -> `a/b/`, `a/index.md` -> `a/`) or a template with `{path}`, `{stem}`, `{dir}`."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
@@ -73,6 +95,9 @@ class Settings:
             raise SettingsError(
                 f"overlap_tokens must be between 0 and half of max_tokens, got {self.overlap_tokens}"
             )
+        if self.property_value_chars < 0 or self.properties_chars < 0:
+            raise SettingsError("property_value_chars and properties_chars must be 0 or more")
+        check_url_settings(self.base_url, self.url_layout)
 
     def fingerprint(self) -> str:
         """Hash of the fields that change the chunks of a file (not include/exclude or limits)."""

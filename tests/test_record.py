@@ -27,6 +27,8 @@ FIELDS = [
     "anchor",
     "oversize",
     "cells",
+    "url",
+    "properties",
 ]
 
 
