@@ -4,7 +4,8 @@ Scan and watch share this one policy (RELIABILITY W13), so a watched tree and a 
 always agree on the set of files:
 - patterns are gitignore-style (pathspec), `Settings.exclude` defaults included; an excluded
   folder hides everything below it, as in git;
-- only files an adapter supports are taken;
+- only files an adapter supports are taken; files without a suffix (README, NOTES) only when an
+  include pattern names them (`README`, `**/NOTES*`; not a folder pattern such as `docs/**`);
 - editor temp and swap files are never taken (`4913`, `*~`, `*.swp`, `.#*`, ...);
 - the output folder is skipped when it lies inside SRC;
 - directory symlinks are not followed; a file symlink is taken only when its target lies inside
@@ -21,7 +22,7 @@ from pathlib import Path
 
 import pathspec
 
-from segment.adapters import is_supported
+from segment.adapters import is_extensionless, is_supported, names_files
 from segment.daemon.store import StatSig
 from segment.settings import Settings
 
@@ -66,6 +67,9 @@ class Scope:
         self.real_src = Path(os.path.realpath(self.src))
         self.exclude = pathspec.GitIgnoreSpec.from_lines(settings.exclude)
         self.include = pathspec.GitIgnoreSpec.from_lines(settings.include) if settings.include else None
+        naming = [p for p in settings.include if names_files(p)]
+        self.include_names = pathspec.GitIgnoreSpec.from_lines(naming) if naming else None
+        """Include patterns that name files (`README`, `**/NOTES*`): only these take extension-less files."""
         self._out_id = _dir_id(self.out)
 
     # -- names -----------------------------------------------------------------------------
@@ -101,7 +105,9 @@ class Scope:
     def file_wanted(self, rel: str) -> bool:
         """Whether a file path (by name only) belongs to the output."""
         name = rel.rsplit("/", 1)[-1]
-        if not rel or is_litter(name) or not is_supported(name) or self.in_out(rel):
+        if not rel or is_litter(name) or self.in_out(rel):
+            return False
+        if not is_supported(name) and not (is_extensionless(name) and self.named_by_include(rel)):
             return False
         parts = rel.split("/")
         for i in range(1, len(parts)):
@@ -110,6 +116,10 @@ class Scope:
         if self.exclude.match_file(rel):
             return False
         return self.include is None or self.include.match_file(rel)
+
+    def named_by_include(self, rel: str) -> bool:
+        """True when an include pattern that names files (not a whole folder) matches `rel`."""
+        return self.include_names is not None and self.include_names.match_file(rel)
 
     # -- disk ------------------------------------------------------------------------------
 

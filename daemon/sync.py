@@ -119,6 +119,13 @@ class Syncer:
         self._check_root()
         on_disk = self.scope.scan()
         rows = self.store.all()
+        built_with = self.store.meta("fingerprint")
+        if rows and built_with and built_with != self.fingerprint:
+            log.info(
+                "settings that shape the chunks changed since the last build (or docsegment was "
+                "upgraded): every file is segmented again, once (%d files)",
+                len(rows),
+            )
         if rows and not on_disk and not full:
             raise SourceEmpty(
                 f"{self.src}: source folder holds none of the {len(rows)} files in the output "

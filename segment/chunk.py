@@ -17,6 +17,9 @@ OUTPUT_VERSION = "2026.12.1"
 """Bumped when parsing or segmentation changes what chunks a file gets: part of the settings
 fingerprint, so an upgraded daemon re-segments files built by an older version."""
 
+CELL_FORMATS = frozenset({"notebook"})
+"""Formats whose tree spans count cells, not lines: their records fill `cells`, not `lines`."""
+
 
 @dataclass(slots=True)
 class Chunk:
@@ -46,6 +49,12 @@ class Chunk:
     """Fragment of the nearest heading, for a deep link."""
     oversize: bool = False
     """True only when one unbreakable unit (a table row) exceeds the budget."""
+    cells: tuple[int, int] | None = None
+    """1-based inclusive notebook cells (notebooks only; their `lines` is null)."""
+    url: str | None = None
+    """The page URL plus `#anchor` (PDFs `#page=N`), when a base URL is set."""
+    properties: dict[str, Any] = field(default_factory=dict)
+    """The source's own declared properties, the same on every chunk of a file."""
     extra: dict[str, Any] = field(default_factory=dict)
     """Further fields, written after the fixed ones."""
 
@@ -64,6 +73,9 @@ class Chunk:
             "pages": list(self.pages) if self.pages else None,
             "anchor": self.anchor,
             "oversize": self.oversize,
+            "cells": list(self.cells) if self.cells else None,
+            "url": self.url,
+            "properties": dict(self.properties),
         }
         for key in sorted(self.extra):
             out.setdefault(key, self.extra[key])
@@ -89,6 +101,9 @@ class Chunk:
             "pages",
             "anchor",
             "oversize",
+            "cells",
+            "url",
+            "properties",
         }
         return cls(
             id=data["id"],
@@ -103,6 +118,9 @@ class Chunk:
             pages=tuple(data["pages"]) if data.get("pages") else None,
             anchor=data.get("anchor"),
             oversize=bool(data.get("oversize", False)),
+            cells=(data["cells"][0], data["cells"][1]) if data.get("cells") else None,
+            url=data.get("url"),
+            properties=dict(data.get("properties") or {}),
             extra={k: v for k, v in data.items() if k not in fixed},
         )
 

@@ -18,7 +18,7 @@ import click
 from segment.api import chunk, parse
 from segment.errors import SegmentError, SettingsError
 from segment.settings import Settings, load_settings
-from segment.tree import pretty
+from segment.tree import Document, pretty
 
 F = TypeVar("F", bound=Callable[..., Any])
 log = logging.getLogger("segment")
@@ -34,6 +34,14 @@ def settings_options(fn: F) -> F:
         click.option("--language", help="spaCy language code for sentence splitting [en]."),
         click.option("--include", multiple=True, help="Only files matching this gitignore-style pattern."),
         click.option("--exclude", multiple=True, help="Skip files matching this gitignore-style pattern."),
+        click.option(
+            "--notebook-outputs/--no-notebook-outputs",
+            default=None,
+            help="Keep the text outputs of notebook code cells [off].",
+        ),
+        click.option("--base-url", help="Where the site is published; chunks then get a `url`."),
+        click.option("--url-layout", help="html, folder, or a template with {path} {stem} {dir} [html]."),
+        click.option("--properties", multiple=True, help="Keep only these property keys (patterns) [*]."),
     ]
     for option in reversed(options):
         fn = option(fn)
@@ -41,7 +49,8 @@ def settings_options(fn: F) -> F:
 
 
 def _settings(src: Path | None, kwargs: dict[str, Any]) -> Settings:
-    keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", "include", "exclude")
+    keys: tuple[str, ...] = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", "include")
+    keys += ("exclude", "notebook_outputs", "base_url", "url_layout", "properties")
     overrides = {k: kwargs.get(k) for k in keys}
     try:
         return load_settings(src, overrides)
@@ -90,10 +99,17 @@ def chunks_command(files: tuple[Path, ...], **kwargs: Any) -> None:
 def tree_command(file: Path) -> None:
     """Print the common tree of FILE (headings, blocks, source spans)."""
     try:
-        click.echo(pretty(parse(file, source=file.as_posix())), nl=False)
+        click.echo(with_properties(parse(file, source=file.as_posix())), nl=False)
     except SegmentError as exc:
         report(exc)
         raise SystemExit(1) from exc
+
+
+def with_properties(document: Document) -> str:
+    """The tree's pretty form with the document's declared properties after its first line."""
+    first, _, rest = pretty(document).partition("\n")
+    lines = [f"  property {key}={value!r}" for key, value in document.properties.items()]
+    return "\n".join([first, *lines, rest]) if lines else f"{first}\n{rest}"
 
 
 @cli.command("build")

@@ -16,10 +16,12 @@ from __future__ import annotations
 from collections.abc import Iterator
 from dataclasses import dataclass
 
-from segment.chunk import Chunk, chunk_id, normalise_text
+from segment.chunk import CELL_FORMATS, Chunk, chunk_id, normalise_text
 from segment.errors import SegmentError
 from segment.gcpause import paused_gc
 from segment.kinds import render_block, splitter
+from segment.links import chunk_url, page_url
+from segment.properties import record_properties
 from segment.sentences import split_sentences
 from segment.settings import Settings
 from segment.tokens import AnyCounter, as_counter, counter_for, is_additive
@@ -370,6 +372,11 @@ class Segmenter:
 
     def _finish(self, document: Document, drafts: list[Draft]) -> list[Chunk]:
         chunks: list[Chunk] = []
+        s = self.settings
+        properties = record_properties(
+            document.properties, s.properties, s.property_value_chars, s.properties_chars
+        )
+        page = page_url(s.base_url, document.source, document.format, s.url_layout)
         seen: dict[tuple[str, ...], int] = {}
         for draft in drafts:
             body = "\n\n".join(p.text for p in draft.members if p.text)
@@ -389,6 +396,7 @@ class Segmenter:
             occurrence = seen.get(key, 0)
             seen[key] = occurrence + 1
             span = merge_spans([p.span for p in draft.members])
+            lines, cells = (None, span.lines) if document.format in CELL_FORMATS else (span.lines, None)
             # Distinct block kinds in order of first appearance; a heading counts only alone.
             kinds = list(dict.fromkeys(p.kind.value for p in draft.members if p.kind != BlockKind.HEADING))
             kinds = kinds or [BlockKind.HEADING.value]
@@ -402,10 +410,13 @@ class Segmenter:
                     text=text,
                     tokens=tokens,
                     blocks=kinds,
-                    lines=span.lines,
+                    lines=lines,
                     pages=span.pages,
                     anchor=draft.anchor,
                     oversize=any(p.oversize for p in draft.members) and tokens > self.settings.max_tokens,
+                    cells=cells,
+                    url=chunk_url(page, draft.anchor, span.pages),
+                    properties=properties,
                 )
             )
         return chunks

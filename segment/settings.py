@@ -11,6 +11,7 @@ from typing import Any
 
 from segment.chunk import OUTPUT_VERSION
 from segment.errors import SettingsError
+from segment.links import check_url_settings
 
 CONFIG_NAME = "segment.toml"
 
@@ -25,6 +26,17 @@ DEFAULT_EXCLUDE: tuple[str, ...] = (
     ".git/",
     "node_modules/",
 )
+
+
+RECORD_SHAPING: tuple[str, ...] = (
+    "notebook_outputs",
+    "properties",
+    "property_value_chars",
+    "properties_chars",
+    "base_url",
+    "url_layout",
+)
+"""Settings added after the first release that change chunks or records: in the fingerprint."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -63,6 +75,23 @@ class Settings:
     markdown_headings: bool = False
     """Write heading lines in chunk text the Markdown way (`## Calibration`), so a reader or a
     language model tells headings from paragraphs. Changes the ids of chunks that hold a heading."""
+    notebook_outputs: bool = False
+    """Keep the text outputs of notebook code cells (`stream`, `text/plain`, `text/markdown`);
+    tracebacks, images and HTML outputs are never kept."""
+    properties: tuple[str, ...] = ("*",)
+    """Which of a source's declared properties every chunk carries: key patterns (`*` wildcards;
+    `!pattern` leaves keys out). `[]` keeps none."""
+    property_value_chars: int = 1000
+    """Size cap of one property value, in characters of its JSON form (longer text is cut, list
+    items past the cap are left out)."""
+    properties_chars: int = 4000
+    """Size cap of all of a chunk's properties together, in characters of their JSON form
+    (properties that would pass it are left out, in the source's order)."""
+    base_url: str | None = None
+    """Where the site is published (`https://docs.example.com/v2/`); chunks then get a `url`."""
+    url_layout: str = "html"
+    """How a source path becomes a page URL: `html` (`a/b.md` -> `a/b.html`), `folder`
+    (`a/b.md` -> `a/b/`, `a/index.md` -> `a/`) or a template with `{path}`, `{stem}`, `{dir}`."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
@@ -77,10 +106,13 @@ class Settings:
             raise SettingsError(
                 f"heading_line must be one of {', '.join(HEADING_LINE_VALUES)}, got {self.heading_line!r}"
             )
+        if self.property_value_chars < 0 or self.properties_chars < 0:
+            raise SettingsError("property_value_chars and properties_chars must be 0 or more")
+        check_url_settings(self.base_url, self.url_layout)
 
     def fingerprint(self) -> str:
         """Hash of the fields that change the chunks of a file (not include/exclude or limits)."""
-        keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language")
+        keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", *RECORD_SHAPING)
         data: dict[str, Any] = {k: getattr(self, k) for k in keys}
         # Output-shaping fields added later: hashed only when not at their default, so that
         # output folders built before they existed keep their fingerprint.

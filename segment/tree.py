@@ -274,11 +274,12 @@ def block_children(block: Block) -> list[Block]:
 
 
 def visible_texts(document: Document, title: bool = True) -> Iterator[str]:
-    """Every text a reader sees in the tree: title (unless `title=False`), headings, paragraphs,
-    code lines, table captions and cells, quote labels, terms (iteratively; order not kept)."""
+    """Every text a reader sees in the tree: title (unless `title=False`; a title derived from the
+    file name is not in the source), headings, paragraphs, code lines, table captions and cells,
+    quote labels, terms (iteratively; order not kept)."""
     from segment.kinds import RULES
 
-    if title and document.title:
+    if title and document.title and document.title_origin is not TitleOrigin.FILE_NAME:
         yield document.title
     stack: list[Block] = []
     for _path, section in document.walk():

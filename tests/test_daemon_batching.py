@@ -166,7 +166,8 @@ def test_editor_litter_our_output_and_unsupported_files_give_no_hints(tmp_path: 
         "x.tmp",
         "_out/chunks/doc.md.jsonl",
         "_out/state.sqlite3",
-        "notes.txt",
+        "notes.docx",
+        "README",  # no suffix, and no include pattern names it
     ):
         assert changes_of(FileCreatedEvent(f"{src}/{name}"), s) == [], name
     assert changes_of(FileOpenedEvent(f"{src}/doc.md"), s) == []

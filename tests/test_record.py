@@ -26,10 +26,19 @@ FIELDS = [
     "pages",
     "anchor",
     "oversize",
+    "cells",
+    "url",
+    "properties",
 ]
 
 
-@pytest.mark.parametrize("path", sorted((FIXTURES / "markdown").glob("*.md")), ids=lambda p: p.stem)
+@pytest.mark.parametrize(
+    "path",
+    sorted((FIXTURES / "markdown").glob("*.md"))
+    + sorted((FIXTURES / "notebook").glob("*.ipynb"))
+    + [FIXTURES / "text" / "field-notes.txt", FIXTURES / "text" / "README"],
+    ids=lambda p: p.name,
+)
 def test_every_record_validates_and_keeps_field_order(path: object) -> None:
     for c in segment.chunk_file(path, segment.Settings(max_tokens=32)):  # type: ignore[arg-type]
         data = json.loads(c.to_json())

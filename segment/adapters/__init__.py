@@ -37,20 +37,44 @@ ADAPTERS: tuple[Adapter, ...] = (
     Adapter("markdown", (".md", ".markdown", ".mdown", ".mkd"), "segment.adapters.markdown"),
     Adapter("html", (".html", ".htm", ".xhtml"), "segment.adapters.html"),
     Adapter("pdf", (".pdf",), "segment.adapters.pdf"),
+    Adapter("notebook", (".ipynb",), "segment.adapters.notebook"),
+    Adapter("text", (".txt",), "segment.adapters.plaintext"),
 )
 
 SUPPORTED_SUFFIXES: frozenset[str] = frozenset(s for a in ADAPTERS for s in a.suffixes)
 
 
+EXTENSIONLESS = "text"
+"""The format of files without a suffix (README, NOTES, CHANGES...), which are read only when
+named: by the user on the command line, or by an include pattern (see `names_files`)."""
+
+
 def adapter_for(path: str | PurePath) -> Adapter:
-    """The adapter for a file name, by suffix (case-insensitive)."""
+    """The adapter for a file name, by suffix (case-insensitive); no suffix means plain text."""
     suffix = PurePath(path).suffix.lower()
     for adapter in ADAPTERS:
         if suffix in adapter.suffixes:
             return adapter
+    if is_extensionless(path):
+        return next(a for a in ADAPTERS if a.format == EXTENSIONLESS)
     raise UnsupportedFormat(str(path), f"no adapter for suffix {suffix!r}")
 
 
 def is_supported(path: str | PurePath) -> bool:
     """True when some adapter handles this file name."""
     return PurePath(path).suffix.lower() in SUPPORTED_SUFFIXES
+
+
+def is_extensionless(path: str | PurePath) -> bool:
+    """True for a file name without a suffix (`README`, `NOTES`); dot files (`.env`) are not."""
+    name = PurePath(path).name
+    return bool(name) and not name.startswith(".") and "." not in name
+
+
+def names_files(pattern: str) -> bool:
+    """True when an include pattern names files rather than a whole folder: its last part is
+    neither empty nor only wildcards (`README`, `**/NOTES*` do; `docs/`, `docs/**`, `*` do not).
+    Only such patterns pull extension-less files into a build."""
+    last = pattern.rstrip().rstrip("/") if not pattern.rstrip().endswith("/") else ""
+    last = last.rsplit("/", 1)[-1]
+    return bool(last.strip("*?")) and not last.startswith("!")
