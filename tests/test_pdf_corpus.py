@@ -20,7 +20,7 @@ import pytest
 
 import segment
 from segment.adapters.pdf import parse_pdf
-from segment.adapters.pdf.headings import norm
+from segment.adapters.pdf.outline import norm
 from segment.chunk import Chunk
 from segment.tree import Document, Table
 from tests.conftest import CORPUS

@@ -10,13 +10,14 @@ from __future__ import annotations
 import time
 from collections import Counter
 from dataclasses import dataclass
+from typing import Any
 
 import pymupdf
 
 from segment.adapters.pdf import blocks as blk
-from segment.adapters.pdf import extract, figures, headings, layout, lists, rulings, running, tables
+from segment.adapters.pdf import extract, figures, headings, layout, lists, outline, rulings, running, tables
 from segment.adapters.pdf.build import build_tree
-from segment.adapters.pdf.extract import Line, page_lines
+from segment.adapters.pdf.extract import Line, LineFlag, page_lines
 from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
 from segment.errors import ParseError
 from segment.gcpause import paused_gc
@@ -96,10 +97,10 @@ def _parse_open(
     heights: list[float] = []
     no_text: list[int] = []
     page_rulings: list[rulings.Rulings] = []
-    page_figures: list[list[figures.Box]] = []
+    page_figures: list[list[extract.Box]] = []
     rule_time = 0.0
     for index in range(doc.page_count):
-        vectors: list[dict[str, object]] | None = [] if table_engine != "none" else None
+        vectors: list[dict[str, Any]] | None = [] if table_engine != "none" else None
         try:
             page = doc[index]
             rect = page.rect
@@ -107,7 +108,7 @@ def _parse_open(
             textpage = page.get_textpage(
                 flags=extract.VECTOR_FLAGS if vectors is not None else extract.TEXT_FLAGS
             )
-            lines = page_lines(page, index + 1, textpage, vectors)  # type: ignore[arg-type]
+            lines = page_lines(page, index + 1, textpage, vectors)
         except (RuntimeError, ValueError, MemoryError, pymupdf.mupdf.FzErrorBase) as exc:
             # A damaged page (missing from the page tree, broken content stream): say so, go on.
             warnings.append(f"page {index + 1}: cannot read page ({exc})")
@@ -141,16 +142,16 @@ def _parse_open(
     table_time = time.process_time() - ts + rule_time
     removed = running.find_running(pages, heights, grids)
     table_pages = 0
-    flows: list[blk.Item] = []
+    flows: list[layout.TextBlock] = []
     for index, lines in enumerate(pages):
-        body = [ln for ln in lines if "running" not in ln.flags]
+        body = [ln for ln in lines if LineFlag.RUNNING not in ln.flags]
         if page_rulings[index].frames or page_rulings[index].v:
             rulings.mark_framed(body, page_rulings[index])
         if table_engine != "none" and body:
             ts = time.process_time()
-            page = doc[index] if table_engine == "pymupdf" else None  # only find_tables() reads it
+            engine_page = doc[index] if table_engine == "pymupdf" else None  # only find_tables() reads it
             found, candidate = tables.find_page_tables(
-                page, index + 1, body, table_engine, page_rulings[index]
+                engine_page, index + 1, body, table_engine, page_rulings[index]
             )
             table_pages += int(candidate)
             body = _place_tables(body, found)
@@ -159,17 +160,17 @@ def _parse_open(
         body = body + [_stand_in(f.page, f.bbox, f) for f in labels]
         for block in layout.order_page(body):
             for part in lists.split_items(block) if block.payload is None else [block]:
-                flows.append(part)  # type: ignore[arg-type]
+                flows.append(part)
     t2 = time.process_time()
 
-    all_lines = [ln for lines in pages for ln in lines if "running" not in ln.flags]
+    all_lines = [ln for lines in pages for ln in lines if LineFlag.RUNNING not in ln.flags]
     vocab = blk.vocabulary(all_lines)
-    items = [blk.classify(b, vocab) for b in flows]  # type: ignore[arg-type]
+    items = [blk.classify(b, vocab) for b in flows]
     items = blk.merge_split_tables(blk.merge_code(items))
     stats = headings.font_stats(items)
     headings.detect(items, stats)
     meta = doc.metadata or {}
-    title_node = headings.title_item(items, meta.get("title"))
+    title_node = outline.title_item(items, meta.get("title"))
     # Like the Markdown adapter's first h1, the visible title names the document and stays a
     # heading; the metadata title is the fallback.
     title = title_node.text.strip() if title_node is not None else None
@@ -177,8 +178,8 @@ def _parse_open(
     toc = doc.get_toc(simple=True) if use_outline else []
     unmatched = 0
     if toc:
-        outline = [(int(lvl), str(t), int(p)) for lvl, t, p, *_ in toc]
-        items, unmatched = headings.apply_outline(items, outline, doc.page_count, stats.body_size)
+        entries = [(int(lvl), str(t), int(p)) for lvl, t, p, *_ in toc]
+        items, unmatched = outline.apply_outline(items, entries, doc.page_count, stats.body_size)
     items = blk.merge_continuations(items, vocab)
 
     document = Document(source=source, format="pdf", title=title)
@@ -233,6 +234,6 @@ def _stand_in(page: int, bbox: tuple[float, float, float, float], payload: objec
     """A line that holds a table's or a figure's place in the reading order."""
     x0, y0, x1, y1 = bbox
     line = Line(page, x0, y0, x1, y1, [], -1000)
-    line.flags.add("table")
+    line.flags |= LineFlag.TABLE
     line.payload = payload
     return line

@@ -16,6 +16,7 @@ from segment.adapters.pdf.figures import FigureText
 from segment.adapters.pdf.layout import TextBlock
 from segment.adapters.pdf.lists import marker as _marker
 from segment.adapters.pdf.lists import marker_is_mono as _marker_is_mono
+from segment.adapters.pdf.table_words import FoundTable
 
 _WORD = re.compile(r"[^\W\d_]+")
 
@@ -223,23 +224,29 @@ def merge_split_tables(items: list[Item]) -> list[Item]:
     for item in items:
         if item.kind == "table" and out and out[-1].kind == "table":
             prev, here = out[-1].blocks[-1].payload, item.first.payload
-            width = lambda t: len((t.header + t.rows)[0]) if (t.header + t.rows) else 0  # noqa: E731
+            first = out[-1].first.payload
             if (
-                prev is not None
-                and here is not None
-                and here.page == prev.page + 1  # type: ignore[attr-defined]
-                and width(prev) == width(here)
+                isinstance(prev, FoundTable)
+                and isinstance(here, FoundTable)
+                and isinstance(first, FoundTable)
+                and here.page == prev.page + 1
+                and _width(prev) == _width(here)
             ):
-                first = out[-1].first.payload
-                rows = here.rows  # type: ignore[attr-defined]
-                if here.header and here.header != first.header:  # type: ignore[attr-defined]
-                    rows = here.header + rows  # type: ignore[attr-defined]
+                rows = here.rows
+                if here.header and here.header != first.header:
+                    rows = here.header + rows
                 out[-1].blocks.append(item.first)
                 out[-1].notes = "joined"
-                out[-1].extra_rows.extend((row, here.page) for row in rows)  # type: ignore[attr-defined]
+                out[-1].extra_rows.extend((row, here.page) for row in rows)
                 continue
         out.append(item)
     return out
+
+
+def _width(table: FoundTable) -> int:
+    """Number of columns (of the first row), 0 for an empty table."""
+    rows = table.header + table.rows
+    return len(rows[0]) if rows else 0
 
 
 def merge_continuations(items: list[Item], vocab: set[str]) -> list[Item]:
