@@ -19,6 +19,7 @@ from segment.adapters.pdf import extract, figures, headings, layout, lists, outl
 from segment.adapters.pdf.build import build_tree
 from segment.adapters.pdf.extract import Line, LineFlag, page_lines
 from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
+from segment.adapters.pdf.properties import document_properties
 from segment.errors import ParseError
 from segment.gcpause import paused_gc
 from segment.settings import Settings
@@ -183,6 +184,7 @@ def _parse_open(
     items = blk.merge_continuations(items, vocab)
 
     document = Document(source=source, format="pdf", title=title)
+    document.properties.update(document_properties(meta))
     document.warnings.extend(warnings)
     document.metadata.update(
         {
