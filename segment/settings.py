@@ -56,6 +56,8 @@ class Settings:
     """Wall-clock budget for parsing and segmenting one file in a worker process."""
     memory_mb: int = 2048
     """Address-space limit of a worker process, in MiB (0: no limit)."""
+    pdf_keep_contents: bool = False
+    """Keep a PDF's table of contents and index pages as chunks (left out by default)."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:

@@ -15,7 +15,18 @@ from typing import Any
 import pymupdf
 
 from segment.adapters.pdf import blocks as blk
-from segment.adapters.pdf import extract, figures, headings, layout, lists, outline, rulings, running, tables
+from segment.adapters.pdf import (
+    contents,
+    extract,
+    figures,
+    headings,
+    layout,
+    lists,
+    outline,
+    rulings,
+    running,
+    tables,
+)
 from segment.adapters.pdf.build import build_tree
 from segment.adapters.pdf.extract import Line, LineFlag, page_lines
 from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
@@ -42,8 +53,10 @@ class PdfTimings:
 
 
 def parse(data: bytes, source: str, settings: Settings | None = None) -> Document:
-    """Registry entry point: bytes of a PDF to the common tree (the page cap from `settings`)."""
-    return parse_pdf(data, source, max_pages=(settings or Settings()).max_pages)
+    """Registry entry point: bytes of a PDF to the common tree (the page cap and whether to keep
+    contents and index pages from `settings`)."""
+    settings = settings or Settings()
+    return parse_pdf(data, source, max_pages=settings.max_pages, keep_contents=settings.pdf_keep_contents)
 
 
 def parse_pdf(
@@ -54,8 +67,10 @@ def parse_pdf(
     max_pages: int | None = None,
     table_engine: str = "own",
     timings: PdfTimings | None = None,
+    keep_contents: bool = False,
 ) -> Document:
-    """Parse a PDF. `table_engine`: "own" (rulings + aligned text), "pymupdf" (find_tables), "none"."""
+    """Parse a PDF. `table_engine`: "own" (rulings + aligned text), "pymupdf" (find_tables), "none".
+    Contents and index pages are left out (and counted in the warnings) unless `keep_contents`."""
     if table_engine not in TABLE_ENGINES:
         raise ValueError(f"table_engine must be one of {TABLE_ENGINES}, got {table_engine!r}")
     limit = max_pages if max_pages is not None else Settings().max_pages
@@ -63,7 +78,7 @@ def parse_pdf(
     doc, warnings = open_pdf(data, source, limit)
     try:
         with paused_gc():
-            document = _parse_open(doc, source, warnings, use_outline, table_engine, timings)
+            document = _parse_open(doc, source, warnings, use_outline, table_engine, timings, keep_contents)
     except ParseError:
         raise
     except (RuntimeError, ValueError) as exc:
@@ -92,6 +107,7 @@ def _parse_open(
     use_outline: bool,
     table_engine: str,
     timings: PdfTimings | None,
+    keep_contents: bool,
 ) -> Document:
     t0 = time.process_time()
     pages: list[list[Line]] = []
@@ -142,10 +158,12 @@ def _parse_open(
     grids = [rulings.grid_boxes(r) for r in page_rulings]
     table_time = time.process_time() - ts + rule_time
     removed = running.find_running(pages, heights, grids)
+    left_out = contents.mark_contents(pages) if not keep_contents else None
+    skipped = LineFlag.RUNNING | LineFlag.CONTENTS if left_out is not None else LineFlag.RUNNING
     table_pages = 0
     flows: list[layout.TextBlock] = []
     for index, lines in enumerate(pages):
-        body = [ln for ln in lines if LineFlag.RUNNING not in ln.flags]
+        body = [ln for ln in lines if not ln.flags & skipped]
         if page_rulings[index].frames or page_rulings[index].v:
             rulings.mark_framed(body, page_rulings[index])
         if table_engine != "none" and body:
@@ -180,7 +198,13 @@ def _parse_open(
     unmatched = 0
     if toc:
         entries = [(int(lvl), str(t), int(p)) for lvl, t, p, *_ in toc]
-        items, unmatched = outline.apply_outline(items, entries, doc.page_count, stats.body_size)
+        items, unmatched = outline.apply_outline(
+            items,
+            entries,
+            doc.page_count,
+            stats.body_size,
+            frozenset(left_out.pages) if left_out is not None else frozenset(),
+        )
     items = blk.merge_continuations(items, vocab)
 
     document = Document(source=source, format="pdf", title=title)
@@ -198,6 +222,9 @@ def _parse_open(
             "table_candidate_pages": table_pages,
         }
     )
+    if left_out is not None and left_out.pages:
+        document.metadata["contents_pages"] = {str(p): str(k) for p, k in sorted(left_out.pages.items())}
+        document.warnings.append(left_out.warning())
     if unmatched:
         document.warnings.append(
             f"{unmatched} outline entries not found on their pages (inserted at page top)"

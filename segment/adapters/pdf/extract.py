@@ -82,6 +82,8 @@ class LineFlag(enum.Flag):
     """A stand-in that holds a table's or a figure's place in the reading order."""
     BOXED = enum.auto()
     """Inside a stroked rectangle (a boxed note or listing): never a heading."""
+    CONTENTS = enum.auto()
+    """On a table of contents or back-of-book index page: left out of the body by default."""
 
 
 NO_FLAGS = LineFlag(0)

@@ -69,9 +69,14 @@ def similar(a: str, b: str) -> float:
 
 
 def apply_outline(
-    items: list[Item], toc: list[tuple[int, str, int]], page_count: int, body_size: float = 0.0
+    items: list[Item],
+    toc: list[tuple[int, str, int]],
+    page_count: int,
+    body_size: float = 0.0,
+    left_out: frozenset[int] = frozenset(),
 ) -> tuple[list[Item], int]:
     """Name and level headings from the outline; returns the new flow and the unmatched count.
+    An unmatched entry that points at a left-out page (contents, index) is not inserted.
 
     Font-detected headings that the outline does not list are kept one level below the outline
     entry they follow when their style is smaller than every matched style, else demoted to text.
@@ -109,6 +114,8 @@ def apply_outline(
                 if best is not None and best[0] >= 0.95:
                     break
         if best is None:
+            if page in left_out:
+                continue
             unmatched += 1
             anchor_page = min(max(page, 1), page_count)
             inserts.setdefault(anchor_page, []).append((level, title.strip()))
