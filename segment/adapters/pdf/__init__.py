@@ -19,6 +19,7 @@ from segment.adapters.pdf import (
     contents,
     extract,
     figures,
+    glyphs,
     headings,
     layout,
     lists,
@@ -173,7 +174,7 @@ def _parse_open(
                 engine_page, index + 1, body, table_engine, page_rulings[index]
             )
             table_pages += int(candidate)
-            body = _place_tables(body, found)
+            body = _place_tables(body, found, warnings)
             table_time += time.process_time() - ts
         body, labels = figures.take_labels(body, page_figures[index], index + 1)
         body = body + [_stand_in(f.page, f.bbox, f) for f in labels]
@@ -245,17 +246,40 @@ def _samples(removed: list[Line], limit: int = 12) -> list[str]:
     return [f"{text} (x{n})" for text, n in counts.most_common(limit)]
 
 
-def _place_tables(lines: list[Line], found: list[tables.FoundTable]) -> list[Line]:
-    """Drop lines inside tables and put one stand-in line per table in the page flow."""
+def _place_tables(lines: list[Line], found: list[tables.FoundTable], warnings: list[str]) -> list[Line]:
+    """Drop lines inside tables and put one stand-in line per table in the page flow. A "table"
+    of scattered glyphs is a drawing: its lines stand in as a figure's text, or are dropped with a
+    warning when they hold no words."""
     if not found:
         return lines
+    inside: dict[int, list[Line]] = {id(t): [] for t in found}
     kept: list[Line] = []
     for ln in lines:
         cx, cy = (ln.x0 + ln.x1) / 2, (ln.y0 + ln.y1) / 2
-        if any(t.bbox[0] - 1 <= cx <= t.bbox[2] + 1 and t.bbox[1] - 1 <= cy <= t.bbox[3] + 1 for t in found):
+        table = next(
+            (
+                t
+                for t in found
+                if t.bbox[0] - 1 <= cx <= t.bbox[2] + 1 and t.bbox[1] - 1 <= cy <= t.bbox[3] + 1
+            ),
+            None,
+        )
+        if table is None:
+            kept.append(ln)
+        else:
+            inside[id(table)].append(ln)
+    for t in found:
+        if not glyphs.is_drawing(t):
+            kept.append(_stand_in(t.page, t.bbox, t))
             continue
-        kept.append(ln)
-    kept.extend(_stand_in(t.page, t.bbox, t) for t in found)
+        drawing = figures.FigureText(t.page, t.bbox, inside[id(t)])
+        text = drawing.text
+        if glyphs.is_glyph_noise(text):
+            warnings.append(
+                f"page {t.page}: dropped the scattered glyphs of a drawing ({len(text.split())} marks), not a table"
+            )
+        else:
+            kept.append(_stand_in(t.page, t.bbox, drawing))
     return kept
 
 

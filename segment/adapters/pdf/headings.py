@@ -15,6 +15,7 @@ from dataclasses import dataclass
 
 from segment.adapters.pdf.blocks import Item
 from segment.adapters.pdf.extract import LineFlag
+from segment.adapters.pdf.glyphs import has_words
 
 MAX_LINES = 3
 MAX_CHARS = 160
@@ -99,7 +100,7 @@ def is_candidate(item: Item, stats: FontStats) -> bool:
     text = item.text.strip()
     if not text or len(text) > MAX_CHARS or not _LETTERS.search(text):
         return False
-    if _CAPTION.match(text):
+    if _CAPTION.match(text) or not has_words(text):
         return False
     if _is_toc_entry(text) or text.casefold().rstrip(":.!") in _ADMONITION:
         return False
