@@ -20,6 +20,7 @@ from segment.adapters.pdf import (
     extract,
     figures,
     glyphs,
+    hanging,
     headings,
     layout,
     lists,
@@ -178,6 +179,8 @@ def _parse_open(
             table_time += time.process_time() - ts
         body, labels = figures.take_labels(body, page_figures[index], index + 1)
         body = body + [_stand_in(f.page, f.bbox, f) for f in labels]
+        body, hanging_lists = hanging.take_hanging(body, index + 1)
+        body += [_stand_in(h.page, h.bbox, h) for h in hanging_lists]
         for block in layout.order_page(body):
             for part in lists.split_items(block) if block.payload is None else [block]:
                 flows.append(part)
