@@ -29,6 +29,11 @@ INDEX_MAX_WORDS = 8
 ALPHABETICAL_SHARE = 0.75
 """Share of consecutive index entries whose first letters do not go backwards."""
 
+PREFILTER_SHARE = 0.25
+"""Lines that end in a digit or a roman numeral's letter, at least this share of a page's lines
+(a contents entry's number is often a line of its own, so rows share more)."""
+_NUMBER_ENDS = frozenset("0123456789ivxlc")
+
 _LEADERS = re.compile(r"(?:\.\s?){3,}\s*[\divxlc]{1,6}$|…\s*\d{1,4}$")
 _ENDS_NUMBER = re.compile(r"(?:\d{1,4}|[ivxlc]{1,6})$")
 _PAGE_LIST = re.compile(
@@ -67,19 +72,19 @@ def _rows(lines: list[Line], by_column: bool) -> list[list[Line]]:
     right in a row. Contents pages are read across the page: the gap between a section number and
     its title can look like a gutter."""
     gutters = find_gutters(lines) if by_column else []
-
-    def column(ln: Line) -> int:
-        return sum(1 for _, g1 in gutters if ln.x0 >= g1 - 1)
-
+    placed = sorted(
+        ((sum(1 for _, g1 in gutters if ln.x0 >= g1 - 1), ln.y0, ln.x0, n, ln) for n, ln in enumerate(lines)),
+    )
     rows: list[list[Line]] = []
-    for ln in sorted(lines, key=lambda ln: (column(ln), ln.y0, ln.x0)):
-        if rows:
+    last_column = -1
+    for column, _, _, _, ln in placed:
+        if rows and column == last_column:
             last = rows[-1][-1]
-            overlap = min(last.y1, ln.y1) - max(last.y0, ln.y0)
-            if column(last) == column(ln) and overlap >= 0.5 * min(last.height, ln.height):
+            if min(last.y1, ln.y1) - max(last.y0, ln.y0) >= 0.5 * min(last.height, ln.height):
                 rows[-1].append(ln)
                 continue
         rows.append([ln])
+        last_column = column
     for row in rows:
         row.sort(key=lambda ln: ln.x0)
     return rows
@@ -94,10 +99,41 @@ def page_kind(lines: list[Line], min_rows: int = MIN_ROWS) -> PageKind | None:
     is lowered for the page after a contents page (the last few entries of a long contents)."""
     if len(lines) < min_rows:
         return None
+    # Most pages stop here: entries end in a page number, so at least min_rows lines must.
+    ending = sum(1 for ln in lines if ln.text.rstrip()[-1:] in _NUMBER_ENDS)
+    if ending < min_rows or ending < PREFILTER_SHARE * len(lines):
+        return None
+    need = max(min_rows, PREFILTER_SHARE * len(lines))
+    if _count_marked(lines) >= need:
+        kind = _contents_kind(lines, min_rows)
+        if kind is not None:
+            return kind
+    if sum(1 for ln in lines if "," in ln.text and ln.text.rstrip()[-1:].isdigit()) < need:
+        return None  # too few page lists for an index
+    return _index_kind(lines, min_rows)
+
+
+def _count_marked(lines: list[Line]) -> int:
+    """Lines with dot leaders, or that hold a lone page number: a contents page has many."""
+    count = 0
+    for ln in lines:
+        text = ln.text.strip()
+        if (
+            ". ." in text
+            or "..." in text
+            or "…" in text
+            or (" " not in text and _ENDS_NUMBER.fullmatch(text))
+        ):
+            count += 1
+    return count
+
+
+def _contents_kind(lines: list[Line], min_rows: int) -> PageKind | None:
+    """Contents when most rows end in a page number after leaders, or set flush right apart."""
     rows = _rows(lines, by_column=False)
     texts = [_row_text(row) for row in rows]
     right = max(ln.x1 for ln in lines)
-    contents = 0
+    entries: list[str] = []
     for row, text in zip(rows, texts):
         if not _ENDS_NUMBER.search(text):
             continue
@@ -105,9 +141,25 @@ def page_kind(lines: list[Line], min_rows: int = MIN_ROWS) -> PageKind | None:
         flush = abs(last.x1 - right) <= RIGHT_SLACK
         apart = len(row) >= 2 and last.x0 - row[-2].x1 >= max(last.size, 1.0) and len(last.text.split()) == 1
         if _LEADERS.search(text) or (flush and apart):
-            contents += 1
-    if contents >= min_rows and contents >= ENTRY_SHARE * len(rows):
-        return PageKind.CONTENTS
+            entries.append(text)
+    if len(entries) < min_rows or len(entries) < ENTRY_SHARE * len(rows):
+        return None
+    # An index set with leaders (common in Texinfo manuals): unnumbered entries in alphabetical order.
+    names = [_LEADERS.sub("", text).strip() for text in entries]
+    return PageKind.INDEX if _alphabetical(names) else PageKind.CONTENTS
+
+
+def _alphabetical(entries: list[str]) -> bool:
+    """Entries that start with letters, in alphabetical order (a few exceptions allowed)."""
+    firsts = [text[0].casefold() for text in entries if text[:1].isalpha()]
+    if len(firsts) < 0.5 * len(entries) or len(firsts) < 2:
+        return False
+    ordered = sum(1 for a, b in zip(firsts, firsts[1:]) if a <= b)
+    return ordered >= ALPHABETICAL_SHARE * (len(firsts) - 1)
+
+
+def _index_kind(lines: list[Line], min_rows: int) -> PageKind | None:
+    """Index when most rows are short entries in alphabetical order that end in page lists."""
     rows = _rows(lines, by_column=True)
     texts = [_row_text(row) for row in rows]
     entries = [text for text in texts if _PAGE_LIST.match(text)]
@@ -116,11 +168,7 @@ def page_kind(lines: list[Line], min_rows: int = MIN_ROWS) -> PageKind | None:
     words = sorted(len(text.split()) for text in entries)
     if words[len(words) // 2] > INDEX_MAX_WORDS:
         return None  # long entries ending in numbers: references, tables, not an index
-    firsts = [text[0].casefold() for text in entries if text[0].isalpha()]
-    ordered = sum(1 for a, b in zip(firsts, firsts[1:]) if a <= b)
-    if len(firsts) < 2 or ordered < ALPHABETICAL_SHARE * (len(firsts) - 1):
-        return None
-    return PageKind.INDEX
+    return PageKind.INDEX if _alphabetical(entries) else None
 
 
 def mark_contents(pages: list[list[Line]]) -> LeftOut:
