@@ -7,7 +7,7 @@ Rows, per file and in total (least CPU seconds of --repeat runs each; the measur
 within each repeat):
 
 - raw dict: `pymupdf.open` + `page.get_text("dict", flags=...)` on every page, our flags (no
-  image data): the floor the issue measures against; raw nogc: the same with the cyclic GC
+  image data): the floor the build is measured against; raw nogc: the same with the cyclic GC
   paused, as our parse runs (x nogc: the build against that stricter floor);
 - raw dict+img: the same with pymupdf's default "dict" flags, which copy image bytes;
 - parse: `parse_pdf` (tree only); build: parse + `segment.chunk` at max_tokens=512;
@@ -35,7 +35,7 @@ import pymupdf
 import segment
 from segment.adapters.pdf import PdfTimings, parse_pdf, rulings, tables
 from segment.adapters.pdf.extract import TEXT_FLAGS, page_lines
-from segment.adapters.pdf.headings import norm
+from segment.adapters.pdf.outline import norm
 from segment.gcpause import paused_gc
 
 CORPUS = Path(__file__).resolve().parents[1].parent / "shared" / "corpus" / "pdf"

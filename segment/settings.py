@@ -92,6 +92,8 @@ class Settings:
     url_layout: str = "html"
     """How a source path becomes a page URL: `html` (`a/b.md` -> `a/b.html`), `folder`
     (`a/b.md` -> `a/b/`, `a/index.md` -> `a/`) or a template with `{path}`, `{stem}`, `{dir}`."""
+    pdf_keep_contents: bool = False
+    """Keep a PDF's table of contents and index pages as chunks (left out by default)."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
@@ -133,7 +135,7 @@ class Settings:
 HEADING_LINE_VALUES = ("off", "path", "title")
 """Values of `Settings.heading_line`."""
 
-OUTPUT_SHAPING_ADDED = ("heading_line", "markdown_headings")
+OUTPUT_SHAPING_ADDED = ("heading_line", "markdown_headings", "pdf_keep_contents")
 """Fields that change chunks, added after the first fingerprinted ones (see `fingerprint`)."""
 
 _DEFAULTS: dict[str, Any] = {f.name: f.default for f in fields(Settings)}

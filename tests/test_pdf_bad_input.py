@@ -1,8 +1,8 @@
 """Bad PDFs get a Document with warnings or a ParseError naming the file and the reason, fast.
 
 Fixtures are built at test time with pymupdf itself (fixtures/pdf/render.py), following the
-fault list of RELIABILITY.md P3: empty, garbage, truncated, broken cross-reference table,
-AES-256 user password, owner-only password, image-only scan, oversized page count.
+reliability scenario "bad PDF bytes" (empty, garbage, truncated, broken cross-reference table,
+AES-256 user password, owner-only password, image-only scan, oversized page count).
 """
 
 from __future__ import annotations
@@ -58,7 +58,7 @@ def test_text_file_named_pdf() -> None:
 
 
 def test_html_named_pdf_is_refused() -> None:
-    # MuPDF would sniff the content and open HTML as a one-page document (RELIABILITY.md P3).
+    # MuPDF would sniff the content and open HTML as a one-page document (the "bad PDF bytes" scenario: a wrong extension).
     error = fails(b"<html><body><h1>Hello</h1></body></html>", "page.pdf")
     assert error.status == "corrupt"
 
@@ -70,7 +70,7 @@ def test_garbage_after_header_is_corrupt() -> None:
 
 @pytest.mark.parametrize("share", [0.1, 0.3, 0.6, 0.9])
 def test_truncated_pdf_errors_or_warns(many: bytes, share: float) -> None:
-    # RELIABILITY.md W6/P3: a cut PDF either fails to open or opens repaired with partial text.
+    # Scenarios "file still being written" and "bad PDF bytes": a cut PDF either fails to open or opens repaired with partial text.
     data = many[: int(len(many) * share)]
     try:
         doc = parse_pdf(data, "cut.pdf")
@@ -171,7 +171,7 @@ def test_mupdf_warnings_go_to_the_log_not_stdout(
 
 @pytest.mark.parametrize("seed", range(6))
 def test_damaged_bytes_give_a_tree_or_a_clear_error(good: bytes, many: bytes, seed: int) -> None:
-    # Random damage (RELIABILITY.md P3 "garbage"): bytes overwritten at random places, seeded.
+    # Random damage (the "bad PDF bytes" scenario, garbage): bytes overwritten at random places, seeded.
     import random
 
     rng = random.Random(seed)

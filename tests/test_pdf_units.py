@@ -8,8 +8,9 @@ import pytest
 
 from segment.adapters.pdf.blocks import join_lines, vocabulary
 from segment.adapters.pdf.extract import Line, Piece, normalise_text, span_pieces
-from segment.adapters.pdf.headings import norm, numbering
+from segment.adapters.pdf.headings import numbering
 from segment.adapters.pdf.layout import find_gutters, order_page
+from segment.adapters.pdf.outline import norm
 from segment.adapters.pdf.rulings import is_candidate, rulings_from_vectors
 from segment.adapters.pdf.running import find_running, is_page_number, running_key
 from segment.adapters.pdf.tables import line_words

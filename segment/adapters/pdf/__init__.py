@@ -10,14 +10,29 @@ from __future__ import annotations
 import time
 from collections import Counter
 from dataclasses import dataclass
+from typing import Any
 
 import pymupdf
 
 from segment.adapters.pdf import blocks as blk
-from segment.adapters.pdf import extract, figures, headings, layout, lists, rulings, running, tables
+from segment.adapters.pdf import (
+    contents,
+    extract,
+    figures,
+    glyphs,
+    hanging,
+    headings,
+    layout,
+    lists,
+    outline,
+    rulings,
+    running,
+    tables,
+)
 from segment.adapters.pdf.build import build_tree
-from segment.adapters.pdf.extract import Line, page_lines
+from segment.adapters.pdf.extract import Line, LineFlag, page_lines
 from segment.adapters.pdf.opening import flush_warnings, log, open_pdf
+from segment.adapters.pdf.properties import document_properties
 from segment.errors import ParseError
 from segment.gcpause import paused_gc
 from segment.settings import Settings
@@ -40,8 +55,10 @@ class PdfTimings:
 
 
 def parse(data: bytes, source: str, settings: Settings | None = None) -> Document:
-    """Registry entry point: bytes of a PDF to the common tree (the page cap from `settings`)."""
-    return parse_pdf(data, source, max_pages=(settings or Settings()).max_pages)
+    """Registry entry point: bytes of a PDF to the common tree (the page cap and whether to keep
+    contents and index pages from `settings`)."""
+    settings = settings or Settings()
+    return parse_pdf(data, source, max_pages=settings.max_pages, keep_contents=settings.pdf_keep_contents)
 
 
 def parse_pdf(
@@ -52,8 +69,10 @@ def parse_pdf(
     max_pages: int | None = None,
     table_engine: str = "own",
     timings: PdfTimings | None = None,
+    keep_contents: bool = False,
 ) -> Document:
-    """Parse a PDF. `table_engine`: "own" (rulings + aligned text), "pymupdf" (find_tables), "none"."""
+    """Parse a PDF. `table_engine`: "own" (rulings + aligned text), "pymupdf" (find_tables), "none".
+    Contents and index pages are left out (and counted in the warnings) unless `keep_contents`."""
     if table_engine not in TABLE_ENGINES:
         raise ValueError(f"table_engine must be one of {TABLE_ENGINES}, got {table_engine!r}")
     limit = max_pages if max_pages is not None else Settings().max_pages
@@ -61,7 +80,7 @@ def parse_pdf(
     doc, warnings = open_pdf(data, source, limit)
     try:
         with paused_gc():
-            document = _parse_open(doc, source, warnings, use_outline, table_engine, timings)
+            document = _parse_open(doc, source, warnings, use_outline, table_engine, timings, keep_contents)
     except ParseError:
         raise
     except (RuntimeError, ValueError) as exc:
@@ -90,16 +109,17 @@ def _parse_open(
     use_outline: bool,
     table_engine: str,
     timings: PdfTimings | None,
+    keep_contents: bool,
 ) -> Document:
     t0 = time.process_time()
     pages: list[list[Line]] = []
     heights: list[float] = []
     no_text: list[int] = []
     page_rulings: list[rulings.Rulings] = []
-    page_figures: list[list[figures.Box]] = []
+    page_figures: list[list[extract.Box]] = []
     rule_time = 0.0
     for index in range(doc.page_count):
-        vectors: list[dict[str, object]] | None = [] if table_engine != "none" else None
+        vectors: list[dict[str, Any]] | None = [] if table_engine != "none" else None
         try:
             page = doc[index]
             rect = page.rect
@@ -107,7 +127,7 @@ def _parse_open(
             textpage = page.get_textpage(
                 flags=extract.VECTOR_FLAGS if vectors is not None else extract.TEXT_FLAGS
             )
-            lines = page_lines(page, index + 1, textpage, vectors)  # type: ignore[arg-type]
+            lines = page_lines(page, index + 1, textpage, vectors)
         except (RuntimeError, ValueError, MemoryError, pymupdf.mupdf.FzErrorBase) as exc:
             # A damaged page (missing from the page tree, broken content stream): say so, go on.
             warnings.append(f"page {index + 1}: cannot read page ({exc})")
@@ -140,36 +160,40 @@ def _parse_open(
     grids = [rulings.grid_boxes(r) for r in page_rulings]
     table_time = time.process_time() - ts + rule_time
     removed = running.find_running(pages, heights, grids)
+    left_out = contents.mark_contents(pages) if not keep_contents else None
+    skipped = LineFlag.RUNNING | LineFlag.CONTENTS if left_out is not None else LineFlag.RUNNING
     table_pages = 0
-    flows: list[blk.Item] = []
+    flows: list[layout.TextBlock] = []
     for index, lines in enumerate(pages):
-        body = [ln for ln in lines if "running" not in ln.flags]
+        body = [ln for ln in lines if not ln.flags & skipped]
         if page_rulings[index].frames or page_rulings[index].v:
             rulings.mark_framed(body, page_rulings[index])
         if table_engine != "none" and body:
             ts = time.process_time()
-            page = doc[index] if table_engine == "pymupdf" else None  # only find_tables() reads it
+            engine_page = doc[index] if table_engine == "pymupdf" else None  # only find_tables() reads it
             found, candidate = tables.find_page_tables(
-                page, index + 1, body, table_engine, page_rulings[index]
+                engine_page, index + 1, body, table_engine, page_rulings[index]
             )
             table_pages += int(candidate)
-            body = _place_tables(body, found)
+            body = _place_tables(body, found, warnings)
             table_time += time.process_time() - ts
         body, labels = figures.take_labels(body, page_figures[index], index + 1)
         body = body + [_stand_in(f.page, f.bbox, f) for f in labels]
+        body, hanging_lists = hanging.take_hanging(body, index + 1)
+        body += [_stand_in(h.page, h.bbox, h) for h in hanging_lists]
         for block in layout.order_page(body):
             for part in lists.split_items(block) if block.payload is None else [block]:
-                flows.append(part)  # type: ignore[arg-type]
+                flows.append(part)
     t2 = time.process_time()
 
-    all_lines = [ln for lines in pages for ln in lines if "running" not in ln.flags]
+    all_lines = [ln for lines in pages for ln in lines if LineFlag.RUNNING not in ln.flags]
     vocab = blk.vocabulary(all_lines)
-    items = [blk.classify(b, vocab) for b in flows]  # type: ignore[arg-type]
+    items = [blk.classify(b, vocab) for b in flows]
     items = blk.merge_split_tables(blk.merge_code(items))
     stats = headings.font_stats(items)
     headings.detect(items, stats)
     meta = doc.metadata or {}
-    title_node = headings.title_item(items, meta.get("title"))
+    title_node = outline.title_item(items, meta.get("title"))
     # Like the Markdown adapter's first h1, the visible title names the document and stays a
     # heading; the metadata title is the fallback.
     title = title_node.text.strip() if title_node is not None else None
@@ -177,11 +201,18 @@ def _parse_open(
     toc = doc.get_toc(simple=True) if use_outline else []
     unmatched = 0
     if toc:
-        outline = [(int(lvl), str(t), int(p)) for lvl, t, p, *_ in toc]
-        items, unmatched = headings.apply_outline(items, outline, doc.page_count, stats.body_size)
+        entries = [(int(lvl), str(t), int(p)) for lvl, t, p, *_ in toc]
+        items, unmatched = outline.apply_outline(
+            items,
+            entries,
+            doc.page_count,
+            stats.body_size,
+            frozenset(left_out.pages) if left_out is not None else frozenset(),
+        )
     items = blk.merge_continuations(items, vocab)
 
     document = Document(source=source, format="pdf", title=title)
+    document.properties.update(document_properties(meta))
     document.warnings.extend(warnings)
     document.metadata.update(
         {
@@ -195,6 +226,9 @@ def _parse_open(
             "table_candidate_pages": table_pages,
         }
     )
+    if left_out is not None and left_out.pages:
+        document.metadata["contents_pages"] = {str(p): str(k) for p, k in sorted(left_out.pages.items())}
+        document.warnings.append(left_out.warning())
     if unmatched:
         document.warnings.append(
             f"{unmatched} outline entries not found on their pages (inserted at page top)"
@@ -215,17 +249,40 @@ def _samples(removed: list[Line], limit: int = 12) -> list[str]:
     return [f"{text} (x{n})" for text, n in counts.most_common(limit)]
 
 
-def _place_tables(lines: list[Line], found: list[tables.FoundTable]) -> list[Line]:
-    """Drop lines inside tables and put one stand-in line per table in the page flow."""
+def _place_tables(lines: list[Line], found: list[tables.FoundTable], warnings: list[str]) -> list[Line]:
+    """Drop lines inside tables and put one stand-in line per table in the page flow. A "table"
+    of scattered glyphs is a drawing: its lines stand in as a figure's text, or are dropped with a
+    warning when they hold no words."""
     if not found:
         return lines
+    inside: dict[int, list[Line]] = {id(t): [] for t in found}
     kept: list[Line] = []
     for ln in lines:
         cx, cy = (ln.x0 + ln.x1) / 2, (ln.y0 + ln.y1) / 2
-        if any(t.bbox[0] - 1 <= cx <= t.bbox[2] + 1 and t.bbox[1] - 1 <= cy <= t.bbox[3] + 1 for t in found):
+        table = next(
+            (
+                t
+                for t in found
+                if t.bbox[0] - 1 <= cx <= t.bbox[2] + 1 and t.bbox[1] - 1 <= cy <= t.bbox[3] + 1
+            ),
+            None,
+        )
+        if table is None:
+            kept.append(ln)
+        else:
+            inside[id(table)].append(ln)
+    for t in found:
+        if not glyphs.is_drawing(t):
+            kept.append(_stand_in(t.page, t.bbox, t))
             continue
-        kept.append(ln)
-    kept.extend(_stand_in(t.page, t.bbox, t) for t in found)
+        drawing = figures.FigureText(t.page, t.bbox, inside[id(t)])
+        text = drawing.text
+        if glyphs.is_glyph_noise(text):
+            warnings.append(
+                f"page {t.page}: dropped the scattered glyphs of a drawing ({len(text.split())} marks), not a table"
+            )
+        else:
+            kept.append(_stand_in(t.page, t.bbox, drawing))
     return kept
 
 
@@ -233,6 +290,6 @@ def _stand_in(page: int, bbox: tuple[float, float, float, float], payload: objec
     """A line that holds a table's or a figure's place in the reading order."""
     x0, y0, x1, y1 = bbox
     line = Line(page, x0, y0, x1, y1, [], -1000)
-    line.flags.add("table")
+    line.flags |= LineFlag.TABLE
     line.payload = payload
     return line

@@ -8,14 +8,17 @@ used elsewhere in the document, or when the hyphen is a soft hyphen (U+00AD).
 from __future__ import annotations
 
 import re
+from collections import Counter
 from dataclasses import dataclass, field
 
 from segment.adapters.pdf.code import code_lines
 from segment.adapters.pdf.extract import Line
 from segment.adapters.pdf.figures import FigureText
+from segment.adapters.pdf.hanging import HangingList
 from segment.adapters.pdf.layout import TextBlock
 from segment.adapters.pdf.lists import marker as _marker
 from segment.adapters.pdf.lists import marker_is_mono as _marker_is_mono
+from segment.adapters.pdf.table_words import FoundTable
 
 _WORD = re.compile(r"[^\W\d_]+")
 
@@ -92,16 +95,23 @@ class Item:
         return style
 
 
-def vocabulary(lines: list[Line]) -> set[str]:
+class Vocabulary(set[str]):
+    """Lower-cased words of a document (runs of letters), to decide hyphen joins; `once` holds
+    the words seen a single time (the two halves of a word broken at a line end usually are)."""
+
+    once: frozenset[str] = frozenset()
+
+
+def vocabulary(lines: list[Line]) -> Vocabulary:
     """Lower-cased words of the document (runs of letters), to decide hyphen joins."""
     # Split at white space first (fast), then cut only the distinct tokens that hold more than
     # letters: the same words as running the letter pattern over the whole text.
-    words: set[str] = set()
-    for token in set("\n".join([ln.text for ln in lines]).lower().split()):
-        if token.isalpha():
-            words.add(token)
-        else:
-            words.update(_WORD.findall(token))
+    counts: dict[str, int] = {}
+    for token, n in Counter("\n".join([ln.text for ln in lines]).lower().split()).items():
+        for word in (token,) if token.isalpha() else _WORD.findall(token):
+            counts[word] = counts.get(word, 0) + n
+    words = Vocabulary(counts)
+    words.once = frozenset(w for w, n in counts.items() if n == 1)
     return words
 
 
@@ -120,9 +130,11 @@ def join_lines(lines: list[str], vocab: set[str]) -> str:
         elif out.endswith(("-", "\u2010")) and len(out) > 1 and out[-2].isalpha() and text[:1].isalpha():
             head = _WORD.findall(out[:-1])
             tail = _WORD.findall(text)
-            joined = (head[-1] if head else "") + (tail[0] if tail else "")
-            if joined.lower() in vocab:
-                out = out[:-1] + text  # "infor-" + "mation", "MN-" + "RAS"
+            first = head[-1] if head else ""
+            rest = tail[0] if tail else ""
+            joined = first + rest
+            if joined.lower() in vocab or _halves(first, rest, vocab):
+                out = out[:-1] + text  # "infor-" + "mation", "MN-" + "RAS", "ap-" + "pearance"
             else:
                 out = out + text  # a compound broken at its own hyphen: "state-" + "of-the-art"
         else:
@@ -130,10 +142,23 @@ def join_lines(lines: list[str], vocab: set[str]) -> str:
     return out.replace("\u00ad", "")
 
 
+def _halves(first: str, rest: str, vocab: set[str]) -> bool:
+    """Both parts of a lower-case word broken at a line end occur nowhere else in the document:
+    they are halves of one word ("ap-" / "pearance"), not two words of a compound."""
+    once = vocab.once if isinstance(vocab, Vocabulary) else frozenset()
+    return len(first) >= 2 and first.islower() and rest.islower() and first in once and rest in once
+
+
 def classify(block: TextBlock, vocab: set[str]) -> Item:
     """Decide what one block is and compute its text."""
     if isinstance(block.payload, FigureText):
         return Item("text", [block], text=block.payload.text, notes="figure")
+    if isinstance(block.payload, HangingList):
+        pairs = [
+            (join_lines([ln.text for ln in term], vocab), join_lines([ln.text for ln in text], vocab))
+            for term, text in block.payload.entries
+        ]
+        return Item("definitions", [block], pairs=pairs)
     if block.payload is not None:
         return Item("table", [block])
     lines = block.lines
@@ -223,23 +248,29 @@ def merge_split_tables(items: list[Item]) -> list[Item]:
     for item in items:
         if item.kind == "table" and out and out[-1].kind == "table":
             prev, here = out[-1].blocks[-1].payload, item.first.payload
-            width = lambda t: len((t.header + t.rows)[0]) if (t.header + t.rows) else 0  # noqa: E731
+            first = out[-1].first.payload
             if (
-                prev is not None
-                and here is not None
-                and here.page == prev.page + 1  # type: ignore[attr-defined]
-                and width(prev) == width(here)
+                isinstance(prev, FoundTable)
+                and isinstance(here, FoundTable)
+                and isinstance(first, FoundTable)
+                and here.page == prev.page + 1
+                and _width(prev) == _width(here)
             ):
-                first = out[-1].first.payload
-                rows = here.rows  # type: ignore[attr-defined]
-                if here.header and here.header != first.header:  # type: ignore[attr-defined]
-                    rows = here.header + rows  # type: ignore[attr-defined]
+                rows = here.rows
+                if here.header and here.header != first.header:
+                    rows = here.header + rows
                 out[-1].blocks.append(item.first)
                 out[-1].notes = "joined"
-                out[-1].extra_rows.extend((row, here.page) for row in rows)  # type: ignore[attr-defined]
+                out[-1].extra_rows.extend((row, here.page) for row in rows)
                 continue
         out.append(item)
     return out
+
+
+def _width(table: FoundTable) -> int:
+    """Number of columns (of the first row), 0 for an empty table."""
+    rows = table.header + table.rows
+    return len(rows[0]) if rows else 0
 
 
 def merge_continuations(items: list[Item], vocab: set[str]) -> list[Item]:

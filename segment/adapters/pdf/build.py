@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from segment.adapters.pdf.blocks import Item
+from segment.adapters.pdf.extract import Box
 from segment.adapters.pdf.tables import FoundTable
 from segment.tree import (
     Code,
@@ -35,13 +36,18 @@ def table_node(found: FoundTable) -> Table:
     """A found table as a tree node; every row keeps its page."""
     pages = (found.page, found.page)
     rows = [
-        Row(cells=list(cells), span=Span(pages=pages, bbox=tuple(round(v, 2) for v in box)))  # type: ignore[arg-type]
+        Row(cells=list(cells), span=Span(pages=pages, bbox=_rounded(box)))
         for cells, box in zip(found.rows, found.row_boxes)
     ]
     rows += [Row(cells=list(c), span=Span(pages=pages)) for c in found.rows[len(found.row_boxes) :]]
     header = [Row(cells=list(cells), span=Span(pages=pages)) for cells in found.header]
-    bbox = tuple(round(v, 2) for v in found.bbox)
-    return Table(header=header, rows=rows, span=Span(pages=pages, bbox=bbox))  # type: ignore[arg-type]
+    return Table(header=header, rows=rows, span=Span(pages=pages, bbox=_rounded(found.bbox)))
+
+
+def _rounded(box: Box) -> Box:
+    """A box with its coordinates rounded to hundredths of a point."""
+    x0, y0, x1, y1 = box
+    return (round(x0, 2), round(y0, 2), round(x1, 2), round(y1, 2))
 
 
 ADMONITIONS = {"note", "tip", "warning", "caution", "important", "hint", "danger", "attention"}

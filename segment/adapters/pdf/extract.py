@@ -6,9 +6,10 @@ copy every image's bytes into the result.
 
 from __future__ import annotations
 
+import enum
 import re
 import unicodedata
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
 
@@ -72,6 +73,23 @@ def normalise_text(text: str) -> str:
     return text.translate(FOLDING)
 
 
+class LineFlag(enum.Flag):
+    """Marks that later stages put on a line; a line can carry several at once."""
+
+    RUNNING = enum.auto()
+    """A running head, running foot or page number: left out of the body."""
+    TABLE = enum.auto()
+    """A stand-in that holds a table's or a figure's place in the reading order."""
+    BOXED = enum.auto()
+    """Inside a stroked rectangle (a boxed note or listing): never a heading."""
+    CONTENTS = enum.auto()
+    """On a table of contents or back-of-book index page: left out of the body by default."""
+
+
+NO_FLAGS = LineFlag(0)
+"""A line as extracted, with no marks yet."""
+
+
 @dataclass(slots=True)
 class Piece:
     """One styled run of text inside a line (a pymupdf span)."""
@@ -106,8 +124,8 @@ class Line:
     """Share of visible characters in bold."""
     mono: float = 0.0
     """Share of visible characters in a monospaced font."""
-    flags: set[str] = field(default_factory=set)
-    """Marks set by later stages (e.g. "running", "table")."""
+    flags: LineFlag = NO_FLAGS
+    """Marks set by later stages (running line, table stand-in, boxed)."""
     payload: object | None = None
     """A non-text item (a table) standing in the reading order in this line's place."""
     split: int = -1
@@ -269,7 +287,8 @@ def span_pieces(spans: list[dict[str, Any]]) -> list[Piece]:
 def _continues(last: Line, block: dict[str, Any]) -> bool:
     """The block goes on from the last line: on its baseline to its right, or right under it
     near its left edge (same paragraph)."""
-    x0, y0, _, _ = block["bbox"]
+    x0: float = block["bbox"][0]
+    y0: float = block["bbox"][1]
     size = max(last.size, 1.0)
     if abs(y0 - last.y0) <= 0.5 * size and x0 >= last.x1 - 2:
         return True

@@ -10,6 +10,7 @@ hand-drawn bracket beside a paragraph out of it.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 from segment.adapters.pdf.extract import Box, Line
 
@@ -38,15 +39,15 @@ class FigureText:
         return " ".join(" ".join(ln.text.split()) for ln in ordered)
 
 
-def figure_boxes(vectors: list[dict[str, object]], page_area: float = 612 * 792) -> list[Box]:
+def figure_boxes(vectors: list[dict[str, Any]], page_area: float = 612 * 792) -> list[Box]:
     """Boxes of clusters of non-rectangular paths (bounded work: paths are merged in one sweep),
     grown by the frames and axes that touch them (plot boxes are rectangles)."""
-    paths = [tuple(v["bbox"]) for v in vectors if not v.get("isrect")]  # type: ignore[arg-type]
+    paths: list[tuple[float, ...]] = [tuple(v["bbox"]) for v in vectors if not v.get("isrect")]
     if len(paths) < MIN_PATHS or len(paths) > 20_000:
         return []
     paths.sort()
     clusters: list[tuple[list[float], int]] = []
-    for x0, y0, x1, y1 in paths:  # type: ignore[misc]
+    for x0, y0, x1, y1 in paths:
         for box, _ in clusters[-8:]:
             if x0 <= box[2] + JOIN and y0 <= box[3] + JOIN and y1 >= box[1] - JOIN:
                 box[0], box[1] = min(box[0], x0), min(box[1], y0)
@@ -59,13 +60,13 @@ def figure_boxes(vectors: list[dict[str, object]], page_area: float = 612 * 792)
     boxes = [box for box, count in clusters if count >= MIN_PATHS]
     for box in boxes:
         for vec in vectors:
-            x0, y0, x1, y1 = vec["bbox"]  # type: ignore[misc]
+            x0, y0, x1, y1 = vec["bbox"]
             if (x1 - x0) * (y1 - y0) > 0.4 * page_area:
                 continue
             if x0 <= box[2] and x1 >= box[0] and y0 <= box[3] and y1 >= box[1]:
                 box[0], box[1] = min(box[0], x0), min(box[1], y0)
                 box[2], box[3] = max(box[2], x1), max(box[3], y1)
-    return [tuple(box) for box in boxes]  # type: ignore[misc]
+    return [(box[0], box[1], box[2], box[3]) for box in boxes]
 
 
 def take_labels(lines: list[Line], boxes: list[Box], page: int) -> tuple[list[Line], list[FigureText]]:

@@ -1,29 +1,26 @@
-"""Headings: from the document's own font statistics, or named and levelled by its outline.
+"""Headings from the document's own font statistics (the outline's names and levels are applied
+afterwards, in `outline`).
 
-Font detector: the body size is the most used size of running text. A heading candidate is a
+The body size is the most used size of running text. A heading candidate is a
 short block that starts with its own line style: larger than the body, or bold at body size, not
 monospaced, not a caption. Numbering (`2`, `2.3`, `A.1`, `Chapter 4`) gives a level directly and
 teaches each style its level; styles without numbers are ranked by size below the styles above
-them. Outline mode matches every outline entry to a block on its page (or the next), so headings
-carry the outline's names and levels; entries with no match are inserted at the top of their page.
-"""
+them."""
 
 from __future__ import annotations
 
 import re
 from collections import Counter
 from dataclasses import dataclass
-from difflib import SequenceMatcher
 
 from segment.adapters.pdf.blocks import Item
-from segment.adapters.pdf.layout import TextBlock
+from segment.adapters.pdf.extract import LineFlag
+from segment.adapters.pdf.glyphs import has_words
 
 MAX_LINES = 3
 MAX_CHARS = 160
-TITLE_TOP = 340.0
-"""A lone largest line above this y (points) on page 1 may be the document title."""
 
-_NUMBERING = re.compile(
+NUMBERING = re.compile(
     r"^(?:(?P<num>\d{1,3}(?:\.\d{1,3})*)\.?|(?P<app>[A-Z](?:\.\d{1,3})+)\.?|(?P<rom>[IVX]{1,5})\.)\s+(?=\S)"
 )
 _LABEL = re.compile(r"^(chapter|appendix|part)(\s+[\w.]+)?\s*$", re.I)
@@ -32,11 +29,10 @@ _ADMONITION = {"note", "tip", "warning", "caution", "important", "hint", "danger
 _ENDS_NUMBER = re.compile(r"\s(\d{1,4}|[ivxlc]{1,6})$")
 _NUMBER_ENDS = frozenset("0123456789ivxlc")
 """The characters a match of _ENDS_NUMBER can end with."""
-_LABEL_PREFIX = re.compile(r"^(chapter|appendix|part)\s+[\w]+[.:]?\s+(?=\S)", re.I)
+LABEL_PREFIX = re.compile(r"^(chapter|appendix|part)\s+[\w]+[.:]?\s+(?=\S)", re.I)
 _CAPTION = re.compile(r"^(figure|fig\.|table|listing|example|algorithm|equation)\s*[\dA-Z]+[.:]", re.I)
 _TOC_ENTRY = re.compile(r"((\.\s*){3,}|\s{2,}|\s)(\d{1,4}|[ivxlc]{1,6})$")
 _LETTERS = re.compile(r"[^\W\d_]", re.U)
-_NORM = re.compile(r"[\W_]+", re.U)
 
 
 @dataclass(slots=True, frozen=True)
@@ -67,9 +63,9 @@ def font_stats(items: list[Item]) -> FontStats:
 
 def numbering(text: str) -> int | None:
     """Depth of a leading section number: "2" -> 1, "2.3" -> 2, "A.1" -> 2, "Chapter 4" -> 1."""
-    if _LABEL_PREFIX.match(text):
+    if LABEL_PREFIX.match(text):
         return 1
-    m = _NUMBERING.match(text)
+    m = NUMBERING.match(text)
     if not m:
         return None
     if m.group("rom"):
@@ -99,12 +95,12 @@ def is_candidate(item: Item, stats: FontStats) -> bool:
         return False  # only clearly larger type may wrap a heading over four or five lines
     if item.mono >= 0.5 and not larger:
         return False
-    if any("boxed" in ln.flags for ln in item.first.lines):
+    if any(LineFlag.BOXED in ln.flags for ln in item.first.lines):
         return False
     text = item.text.strip()
     if not text or len(text) > MAX_CHARS or not _LETTERS.search(text):
         return False
-    if _CAPTION.match(text):
+    if _CAPTION.match(text) or not has_words(text):
         return False
     if _is_toc_entry(text) or text.casefold().rstrip(":.!") in _ADMONITION:
         return False
@@ -288,152 +284,3 @@ def _drop_empty(items: list[Item]) -> None:
             drop.append(here)
     for item in drop:
         item.level = None
-
-
-def title_item(items: list[Item], metadata_title: str | None) -> Item | None:
-    """The document title among page-1 headings: the PDF's own title, or a lone largest line."""
-    heads = [i for i in items if i.level is not None]
-    if not heads:
-        return None
-    first_page = [i for i in heads if i.pages[0] == 1]
-    if metadata_title and norm(metadata_title):
-        for item in first_page:
-            if _similar(norm(item.text), norm(metadata_title)) >= 0.85:
-                return item
-    if not first_page:
-        return None
-    top = max(first_page, key=lambda i: i.size)
-    others = [i.size for i in heads if i is not top]
-    if (
-        others
-        and top.size >= max(others) + 2
-        and sum(1 for i in heads if style_of(i) == style_of(top)) == 1
-        and top.first.lines[0].y0 < TITLE_TOP
-    ):
-        return top
-    return None
-
-
-# ---------------------------------------------------------------- outline
-
-
-def norm(text: str) -> str:
-    """Text for matching: case folded, numbering and punctuation removed."""
-    text = text.strip()
-    text = _LABEL_PREFIX.sub("", text)
-    m = _NUMBERING.match(text)
-    if m:
-        text = text[m.end() :]
-    return _NORM.sub(" ", text.casefold()).strip()
-
-
-def _similar(a: str, b: str) -> float:
-    if not a or not b:
-        return 0.0
-    if a == b:
-        return 1.0
-    if a.startswith(b) or b.startswith(a):
-        short, long_ = sorted((a, b), key=len)
-        return 0.8 + 0.2 * len(short) / len(long_)
-    if 2.0 * min(len(a), len(b)) < 0.8 * (len(a) + len(b)):
-        return 0.0  # SequenceMatcher.real_quick_ratio() below 0.8, without building the matcher
-    matcher = SequenceMatcher(None, a, b, autojunk=False)
-    if matcher.real_quick_ratio() < 0.8 or matcher.quick_ratio() < 0.8:
-        return 0.0  # upper bounds already below every threshold we use
-    return matcher.ratio()
-
-
-def apply_outline(
-    items: list[Item], toc: list[tuple[int, str, int]], page_count: int, body_size: float = 0.0
-) -> tuple[list[Item], int]:
-    """Name and level headings from the outline; returns the new flow and the unmatched count.
-
-    Font-detected headings that the outline does not list are kept one level below the outline
-    entry they follow when their style is smaller than every matched style, else demoted to text.
-    """
-    by_page: dict[int, list[int]] = {}
-    for idx, item in enumerate(items):
-        if item.kind == "text" and not item.label:
-            by_page.setdefault(item.pages[0], []).append(idx)
-    assigned: dict[int, tuple[int, str]] = {}
-    inserts: dict[int, list[tuple[int, str]]] = {}
-    last_idx = -1
-    unmatched = 0
-    heads: dict[int, str] = {}
-
-    def head_of(idx: int) -> str:
-        if idx not in heads:
-            heads[idx] = norm(" ".join(ln.text.strip() for ln in items[idx].first.lines[:MAX_LINES]))
-        return heads[idx]
-
-    for level, title, page in toc:
-        target = norm(title)
-        best: tuple[float, int] | None = None
-        if target:
-            for p in (page, page + 1, page - 1):
-                for idx in by_page.get(p, ()):
-                    if idx in assigned:
-                        continue
-                    score = _similar(head_of(idx), target)
-                    if score < 0.8:
-                        continue
-                    score += 0.1 if items[idx].level is not None else 0.0
-                    score += 0.05 if idx > last_idx else 0.0
-                    if best is None or score > best[0]:
-                        best = (score, idx)
-                if best is not None and best[0] >= 0.95:
-                    break
-        if best is None:
-            unmatched += 1
-            anchor_page = min(max(page, 1), page_count)
-            inserts.setdefault(anchor_page, []).append((level, title.strip()))
-            continue
-        idx = best[1]
-        assigned[idx] = (level, _outline_text(items[idx].text, title))
-        last_idx = max(last_idx, idx)
-    matched_styles = {style_of(items[i]) for i in assigned}
-    smallest = min((s[0] for s in matched_styles), default=0.0)
-    out: list[Item] = []
-    done_pages: set[int] = set()
-    current = 0
-    for idx, item in enumerate(items):
-        page = item.pages[0]
-        if page in inserts and page not in done_pages:
-            done_pages.add(page)
-            for level, title in inserts[page]:
-                out.append(_synthetic(item, level, title))
-                current = level
-        if idx in assigned:
-            level, text = assigned[idx]
-            item.level, item.text = level, text
-            current = level
-        elif item.level is not None:
-            # Outlines list the structure; an unlisted heading is kept only when it is set in a
-            # larger type than the body and smaller than every listed one (a deeper level).
-            style = style_of(item)
-            larger = item.size >= body_size + 0.9
-            if larger and style not in matched_styles and style[0] <= smallest and current:
-                item.level = current + 1
-            else:
-                item.level = None
-        out.append(item)
-    for page in sorted(set(inserts) - done_pages):
-        anchor = out[-1] if out else None
-        for level, title in inserts[page]:
-            if anchor is not None:
-                out.append(_synthetic(anchor, level, title))
-    return out, unmatched
-
-
-def _outline_text(block_text: str, title: str) -> str:
-    """The outline's title, keeping a section number printed on the page when the title lacks it."""
-    title = " ".join(title.split())
-    m = _NUMBERING.match(block_text.strip())
-    if m and not _NUMBERING.match(title):
-        return m.group(0).strip() + " " + title
-    return title
-
-
-def _synthetic(near: Item, level: int, title: str) -> Item:
-    block = TextBlock(list(near.first.lines[:1]), near.first.column)
-    return Item("heading", [block], text=" ".join(title.split()), level=level)

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 from itertools import accumulate
 from statistics import median
 
-from segment.adapters.pdf.extract import Line, Piece
+from segment.adapters.pdf.extract import Line, LineFlag, Piece
 
 MIN_GUTTER = 6.0
 """Narrowest empty strip (points) taken as a gutter between columns."""
@@ -73,7 +73,7 @@ class TextBlock:
 
 def find_gutters(lines: list[Line]) -> list[tuple[float, float]]:
     """Empty vertical strips between text columns, left to right."""
-    body = [ln for ln in lines if "table" not in ln.flags]
+    body = [ln for ln in lines if LineFlag.TABLE not in ln.flags]
     if len(body) < 8:
         return []
     x_min = min(ln.x0 for ln in body)
@@ -149,7 +149,7 @@ def merge_baselines(lines: list[Line]) -> list[Line]:
     for line in sorted(lines, key=lambda ln: (ln.y0, ln.x0)):
         if line.block in alias:
             line.block = alias[line.block]
-        if out and "table" not in line.flags and "table" not in out[-1].flags:
+        if out and LineFlag.TABLE not in line.flags and LineFlag.TABLE not in out[-1].flags:
             prev = out[-1]
             overlap = min(prev.y1, line.y1) - max(prev.y0, line.y0)
             gap = line.x0 - prev.x1
@@ -222,10 +222,10 @@ def _group(lines: list[Line], column: int) -> list[TextBlock]:
     """Cut a column's lines into blocks at block changes, wide gaps and style changes."""
     out: list[TextBlock] = []
     for line in lines:
-        if "table" in line.flags:
+        if LineFlag.TABLE in line.flags:
             out.append(TextBlock([line], column, payload=line.payload))
             continue
-        if out and out[-1].payload is None and "table" not in out[-1].lines[-1].flags:
+        if out and out[-1].payload is None and LineFlag.TABLE not in out[-1].lines[-1].flags:
             prev = out[-1].lines[-1]
             if not _breaks(prev, line):
                 out[-1].lines.append(line)

@@ -10,10 +10,11 @@ from __future__ import annotations
 
 from bisect import bisect_left, bisect_right
 from dataclasses import dataclass, field
+from typing import Any
 
 import pymupdf
 
-from segment.adapters.pdf.extract import Line
+from segment.adapters.pdf.extract import Line, LineFlag
 
 TOL = 2.0
 """Points within which rulings are taken to touch."""
@@ -78,7 +79,7 @@ def rulings(page: pymupdf.Page) -> Rulings:
     return out
 
 
-def rulings_from_vectors(vectors: list[dict[str, object]], width: float, height: float) -> Rulings:
+def rulings_from_vectors(vectors: list[dict[str, Any]], width: float, height: float) -> Rulings:
     """Rulings from the vector blocks MuPDF collects with the text (`TEXT_COLLECT_VECTORS`): one
     pass over the page instead of a second one for `get_cdrawings()`. Only straight pieces and
     rectangles count (`isrect`); curves never rule a table."""
@@ -86,7 +87,7 @@ def rulings_from_vectors(vectors: list[dict[str, object]], width: float, height:
     for vec in vectors:
         if not vec.get("isrect"):
             continue
-        x0, y0, x1, y1 = vec["bbox"]  # type: ignore[misc]
+        x0, y0, x1, y1 = vec["bbox"]
         w, h = x1 - x0, y1 - y0
         if w > width * 0.98 and h > height * 0.98:
             continue  # page background
@@ -160,7 +161,7 @@ def _inner_vertical(r: Rulings) -> bool:
 
 
 def mark_framed(lines: list[Line], r: Rulings) -> None:
-    """Flag lines inside a stroked rectangle ("boxed"): boxed notes, listings and one-column
+    """Flag lines inside a stroked rectangle (`LineFlag.BOXED`): boxed notes, listings and one-column
     tables are never headings."""
     frames = list(r.frames)
     if r.v and len(r.h) + len(r.v) <= 80:
@@ -176,7 +177,7 @@ def mark_framed(lines: list[Line], r: Rulings) -> None:
             continue
         for ln in lines:
             if x0 - 1 <= ln.x0 and ln.x1 <= x1 + 1 and y0 - 1 <= ln.y0 and ln.y1 <= y1 + 1:
-                ln.flags.add("boxed")
+                ln.flags |= LineFlag.BOXED
 
 
 def cluster(values: list[float], tol: float = 1.5) -> list[float]:

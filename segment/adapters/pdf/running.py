@@ -11,7 +11,7 @@ from __future__ import annotations
 import re
 from collections import defaultdict
 
-from segment.adapters.pdf.extract import Box, Line
+from segment.adapters.pdf.extract import Box, Line, LineFlag
 
 BAND = 0.12
 """Share of the page height at the top and at the bottom where running lines may sit."""
@@ -41,7 +41,7 @@ def is_page_number(text: str) -> bool:
 def find_running(
     pages: list[list[Line]], heights: list[float], grids: list[list[Box]] | None = None
 ) -> list[Line]:
-    """Mark running lines on every page (flag "running") and return them in page order.
+    """Mark running lines on every page (`LineFlag.RUNNING`) and return them in page order.
 
     Lines inside a ruled grid (`grids`, per page) are table cells, such as a header row repeated
     at the top of each page of a long table: never running lines.
@@ -68,25 +68,25 @@ def find_running(
         pages_by_key[(zone, key)].add(line.page)
     removed: list[Line] = []
     for zone, key, line, outermost in candidates:
-        if "running" in line.flags:
+        if LineFlag.RUNNING in line.flags:
             continue
         seen = len(pages_by_key[(zone, key)])
         if seen >= threshold or (n_pages > 1 and outermost and is_page_number(line.text)):
-            line.flags.add("running")
+            line.flags |= LineFlag.RUNNING
             removed.append(line)
     # Running heads that change with each section (odd pages often carry the section title) sit
     # in the same slot as the confirmed ones: same band, same height on the page, same size.
     slots: dict[tuple[str, int, float], int] = defaultdict(int)
     for zone, _, line, _ in candidates:
-        if "running" in line.flags:
+        if LineFlag.RUNNING in line.flags:
             slots[(zone, round(line.y0), round(line.size))] += 1
     established = {k for k, n in slots.items() if n >= max(3, 0.2 * n_pages)}
     for zone, _, line, _ in candidates:
-        if "running" in line.flags:
+        if LineFlag.RUNNING in line.flags:
             continue
         y = round(line.y0)
         if any((zone, y + d, round(line.size)) in established for d in (-1, 0, 1)):
-            line.flags.add("running")
+            line.flags |= LineFlag.RUNNING
             removed.append(line)
     removed.sort(key=lambda ln: (ln.page, ln.y0))
     return removed
