@@ -149,6 +149,24 @@ def status_command(out: Path, as_json: bool) -> None:
     raise SystemExit(run_status(out, as_json=as_json))
 
 
+@cli.command("report")
+@click.argument("out", type=click.Path(file_okay=False, path_type=Path))
+@click.option("--json", "as_json", is_flag=True, help="Machine-readable summary (summary.schema.json).")
+@click.option(
+    "--src",
+    type=click.Path(exists=True, file_okay=False, path_type=Path),
+    help="Source root, when it moved since the build (default: the one the build recorded).",
+)
+@click.option("--max-tokens", type=int, help="Budget the chunks were cut to [from the build's settings].")
+@click.option("--overlap-tokens", type=int, help="Overlap of the sliding windows in --compare.")
+def report_command(out: Path, as_json: bool, src: Path | None, **kwargs: Any) -> None:
+    """Summary of OUT: files, token counts, cuts, repeats and problems."""
+    from segment.report.commands import run_report
+
+    overrides = {k: v for k, v in kwargs.items() if v is not None}
+    raise SystemExit(run_report(out, overrides, as_json=as_json, src=src))
+
+
 def main(argv: list[str] | None = None) -> int:
     """Entry point of the `segment` console script."""
     try:

@@ -1,0 +1,46 @@
+"""Bodies of `segment report` and `segment check` (the CLI only parses flags).
+
+The report is the command's output, so it goes to stdout; notes and errors go to stderr.
+Each returns the process exit code.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+import click
+
+from segment.report.output import NoOutput, Output, read_output
+from segment.report.summary import summarise
+from segment.report.text import summary_text
+
+
+def _read(out: Path, overrides: dict[str, Any], src: Path | None = None) -> Output | None:
+    try:
+        return read_output(out, overrides, src=src)
+    except NoOutput as exc:
+        click.echo(f"Error: {exc}", err=True)
+        return None
+
+
+def run_report(
+    out: Path,
+    overrides: dict[str, Any],
+    *,
+    as_json: bool = False,
+    src: Path | None = None,
+    list_source: bool = True,
+) -> int:
+    """Print the summary of OUT (text, or JSON with `as_json`); 1 when OUT holds no output."""
+    output = _read(out, overrides, src)
+    if output is None:
+        return 1
+    summary = summarise(output, list_source=list_source)
+    data: dict[str, Any] = summary.to_dict()
+    if as_json:
+        click.echo(json.dumps(data, ensure_ascii=False))
+    else:
+        click.echo("\n".join(summary_text(summary)))
+    return 0
