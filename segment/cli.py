@@ -159,12 +159,18 @@ def status_command(out: Path, as_json: bool) -> None:
 )
 @click.option("--max-tokens", type=int, help="Budget the chunks were cut to [from the build's settings].")
 @click.option("--overlap-tokens", type=int, help="Overlap of the sliding windows in --compare.")
-def report_command(out: Path, as_json: bool, src: Path | None, **kwargs: Any) -> None:
+@click.option(
+    "--html",
+    "html_dir",
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Also write a self-contained report site (overview and one page per file) into this folder.",
+)
+def report_command(out: Path, as_json: bool, src: Path | None, html_dir: Path | None, **kwargs: Any) -> None:
     """Summary of OUT: files, token counts, cuts, repeats and problems."""
     from segment.report.commands import run_report
 
     overrides = {k: v for k, v in kwargs.items() if v is not None}
-    raise SystemExit(run_report(out, overrides, as_json=as_json, src=src))
+    raise SystemExit(run_report(out, overrides, as_json=as_json, src=src, html_dir=html_dir))
 
 
 def main(argv: list[str] | None = None) -> int:

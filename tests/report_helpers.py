@@ -16,8 +16,6 @@ DEMO = FIXTURES / "demo"
 
 def build(src: Path, out: Path, settings: Settings | None = None) -> Path:
     """Build SRC into OUT (the daemon's one reconcile pass) and return OUT."""
-    if __name__ == "__main__":  # pragma: no cover - reconcile's workers re-import the caller
-        pass
     reconcile(src, out, settings or Settings())
     return out
 

@@ -32,12 +32,23 @@ def run_report(
     as_json: bool = False,
     src: Path | None = None,
     list_source: bool = True,
+    html_dir: Path | None = None,
 ) -> int:
     """Print the summary of OUT (text, or JSON with `as_json`); 1 when OUT holds no output."""
     output = _read(out, overrides, src)
     if output is None:
         return 1
     summary = summarise(output, list_source=list_source)
+    if html_dir is not None:
+        from segment.report.html import write_site
+        from segment.report.html.plots import MissingPlotting
+
+        try:
+            index = write_site(output, summary, html_dir)
+        except MissingPlotting as exc:
+            click.echo(f"Error: {exc}", err=True)
+            return 2
+        click.echo(f"report site: {index}", err=True)
     data: dict[str, Any] = summary.to_dict()
     if as_json:
         click.echo(json.dumps(data, ensure_ascii=False))
