@@ -165,12 +165,21 @@ def status_command(out: Path, as_json: bool) -> None:
     type=click.Path(file_okay=False, path_type=Path),
     help="Also write a self-contained report site (overview and one page per file) into this folder.",
 )
-def report_command(out: Path, as_json: bool, src: Path | None, html_dir: Path | None, **kwargs: Any) -> None:
+@click.option(
+    "--compare",
+    "with_compare",
+    is_flag=True,
+    help="Cut the same files with fixed-size and sliding windows and set their figures beside ours.",
+)
+def report_command(
+    out: Path, as_json: bool, src: Path | None, html_dir: Path | None, with_compare: bool, **kwargs: Any
+) -> None:
     """Summary of OUT: files, token counts, cuts, repeats and problems."""
     from segment.report.commands import run_report
 
     overrides = {k: v for k, v in kwargs.items() if v is not None}
-    raise SystemExit(run_report(out, overrides, as_json=as_json, src=src, html_dir=html_dir))
+    code = run_report(out, overrides, as_json=as_json, src=src, html_dir=html_dir, with_compare=with_compare)
+    raise SystemExit(code)
 
 
 def main(argv: list[str] | None = None) -> int:

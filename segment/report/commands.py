@@ -33,6 +33,7 @@ def run_report(
     src: Path | None = None,
     list_source: bool = True,
     html_dir: Path | None = None,
+    with_compare: bool = False,
 ) -> int:
     """Print the summary of OUT (text, or JSON with `as_json`); 1 when OUT holds no output."""
     output = _read(out, overrides, src)
@@ -50,8 +51,23 @@ def run_report(
             return 2
         click.echo(f"report site: {index}", err=True)
     data: dict[str, Any] = summary.to_dict()
+    lines = summary_text(summary)
+    if with_compare:
+        from segment.report.compare import compare, comparison_dict, comparison_text
+
+        try:
+            comparison = compare(output)
+        except FileNotFoundError as exc:
+            click.echo(f"Error: {exc}", err=True)
+            return 1
+        data["compare"] = comparison_dict(comparison)
+        lines += [
+            "",
+            "comparison with plain windows (same files, same budget):",
+            *comparison_text(comparison),
+        ]
     if as_json:
         click.echo(json.dumps(data, ensure_ascii=False))
     else:
-        click.echo("\n".join(summary_text(summary)))
+        click.echo("\n".join(lines))
     return 0
