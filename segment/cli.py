@@ -171,14 +171,33 @@ def status_command(out: Path, as_json: bool) -> None:
     is_flag=True,
     help="Cut the same files with fixed-size and sliding windows and set their figures beside ours.",
 )
+@click.option(
+    "--queries",
+    type=click.Path(exists=True, dir_okay=False, path_type=Path),
+    help="JSON Lines of questions with the source that answers each: recall@1/5/10 and MRR per chunking.",
+)
 def report_command(
-    out: Path, as_json: bool, src: Path | None, html_dir: Path | None, with_compare: bool, **kwargs: Any
+    out: Path,
+    as_json: bool,
+    src: Path | None,
+    html_dir: Path | None,
+    with_compare: bool,
+    queries: Path | None,
+    **kwargs: Any,
 ) -> None:
     """Summary of OUT: files, token counts, cuts, repeats and problems."""
     from segment.report.commands import run_report
 
     overrides = {k: v for k, v in kwargs.items() if v is not None}
-    code = run_report(out, overrides, as_json=as_json, src=src, html_dir=html_dir, with_compare=with_compare)
+    code = run_report(
+        out,
+        overrides,
+        as_json=as_json,
+        src=src,
+        html_dir=html_dir,
+        with_compare=with_compare,
+        queries=queries,
+    )
     raise SystemExit(code)
 
 

@@ -34,6 +34,7 @@ def run_report(
     list_source: bool = True,
     html_dir: Path | None = None,
     with_compare: bool = False,
+    queries: Path | None = None,
 ) -> int:
     """Print the summary of OUT (text, or JSON with `as_json`); 1 when OUT holds no output."""
     output = _read(out, overrides, src)
@@ -52,20 +53,35 @@ def run_report(
         click.echo(f"report site: {index}", err=True)
     data: dict[str, Any] = summary.to_dict()
     lines = summary_text(summary)
-    if with_compare:
-        from segment.report.compare import compare, comparison_dict, comparison_text
+    if with_compare or queries is not None:
+        from segment.report.compare import (
+            compare,
+            comparison_dict,
+            comparison_text,
+            evaluate_queries,
+            flat_documents,
+        )
+        from segment.report.figures import as_plain
+        from segment.report.retrieval import QuestionsError, read_questions, retrieval_text
 
         try:
-            comparison = compare(output)
-        except FileNotFoundError as exc:
+            questions = read_questions(queries) if queries is not None else []
+            flats = list(flat_documents(output))
+        except (QuestionsError, FileNotFoundError) as exc:
             click.echo(f"Error: {exc}", err=True)
             return 1
-        data["compare"] = comparison_dict(comparison)
-        lines += [
-            "",
-            "comparison with plain windows (same files, same budget):",
-            *comparison_text(comparison),
-        ]
+        if with_compare:
+            comparison = compare(output, flats)
+            data["compare"] = comparison_dict(comparison)
+            lines += [
+                "",
+                "comparison with plain windows (same files, same budget):",
+                *comparison_text(comparison),
+            ]
+        if queries is not None:
+            rows = evaluate_queries(output, questions, flats)
+            data["queries"] = as_plain(rows)
+            lines += ["", f"retrieval on {queries}:", *retrieval_text(rows)]
     if as_json:
         click.echo(json.dumps(data, ensure_ascii=False))
     else:

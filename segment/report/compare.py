@@ -7,7 +7,7 @@ document's text, so every file with chunks is parsed once more (with the build's
 from __future__ import annotations
 
 import logging
-from collections.abc import Iterator
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -17,6 +17,14 @@ from segment.errors import SegmentError
 from segment.report.baselines import FlatDocument, Window, flatten, windows
 from segment.report.figures import TokenStats, continued_kind
 from segment.report.output import Output
+from segment.report.retrieval import (
+    Passage,
+    Question,
+    RetrievalFigures,
+    evaluate,
+    passages_of_records,
+    passages_of_windows,
+)
 from segment.report.textshape import ends_in_row_part, ends_mid_sentence
 from segment.tokens import counter_for
 
@@ -118,17 +126,19 @@ def window_figures(figures: ChunkingFigures, flat: FlatDocument, cut: list[Windo
         figures.heading_known += w.start in flat.headings
 
 
-def compare(output: Output) -> Comparison:
-    """Cut every file with chunks by the two baselines and measure all three chunkings."""
+def compare(output: Output, flats: Iterable[FlatDocument] | None = None) -> Comparison:
+    """Cut every file with chunks by the two baselines and measure all three chunkings.
+
+    `flats` are the documents already parsed again (`flat_documents`), to parse them only once.
+    """
     counter = counter_for(output.settings.tokenizer)
     overlap = sliding_overlap(output)
     fixed, sliding = ChunkingFigures("fixed windows"), ChunkingFigures(f"sliding windows (overlap {overlap})")
     fixed_tokens: list[int] = []
     sliding_tokens: list[int] = []
     sources: set[str] = set()
-    unreadable: list[str] = []
     with_chunks = [c.source for c in output.sources if c.records]
-    for flat in flat_documents(output):
+    for flat in flats if flats is not None else flat_documents(output):
         sources.add(flat.source)
         for figures, step_back, tokens in ((fixed, 0, fixed_tokens), (sliding, overlap, sliding_tokens)):
             cut = windows(flat, output.budget, step_back, counter)
@@ -167,3 +177,24 @@ def comparison_dict(comparison: Comparison) -> dict[str, Any]:
 
     data: dict[str, Any] = as_plain(comparison)
     return data
+
+
+def evaluate_queries(
+    output: Output, questions: list[Question], flats: Iterable[FlatDocument] | None = None
+) -> list[RetrievalFigures]:
+    """Recall and MRR of ours, fixed windows and sliding windows on the user's questions."""
+    counter = counter_for(output.settings.tokenizer)
+    overlap = sliding_overlap(output)
+    fixed: list[Passage] = []
+    sliding: list[Passage] = []
+    sources: set[str] = set()
+    for flat in flats if flats is not None else flat_documents(output):
+        sources.add(flat.source)
+        fixed += passages_of_windows(flat, windows(flat, output.budget, 0, counter))
+        sliding += passages_of_windows(flat, windows(flat, output.budget, overlap, counter))
+    ours = passages_of_records(r for c in output.sources if c.source in sources for r in c.records)
+    return [
+        evaluate("ours", ours, questions),
+        evaluate("fixed windows", fixed, questions),
+        evaluate(f"sliding windows (overlap {overlap})", sliding, questions),
+    ]
