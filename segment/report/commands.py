@@ -87,3 +87,29 @@ def run_report(
     else:
         click.echo("\n".join(lines))
     return 0
+
+
+def run_check(
+    out: Path, overrides: dict[str, Any], limits: dict[str, Any], *, src: Path | None = None
+) -> int:
+    """Exit 1 when OUT breaks a threshold (each breach printed), 0 when none, 2 on bad thresholds."""
+    from segment.errors import SettingsError
+    from segment.report.check import breach_lines, breaches, coerce_limits
+    from segment.settings import read_table
+
+    output = _read(out, overrides, src)
+    if output is None:
+        return 1
+    try:
+        given = coerce_limits(read_table(output.src, "check"), "segment.toml [check]")
+        given.update(coerce_limits(limits, "command line"))
+    except SettingsError as exc:
+        click.echo(f"Error: {exc}", err=True)
+        return 2
+    summary = summarise(output, list_source=False)
+    found = breaches(summary, given)
+    if found:
+        click.echo("\n".join(breach_lines(found)))
+        return 1
+    click.echo(f"ok: {summary.figures.chunks} chunks in {summary.files} files, no threshold broken")
+    return 0
