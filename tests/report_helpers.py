@@ -7,9 +7,11 @@ import shutil
 from pathlib import Path
 from typing import Any
 
+import pytest
+
 from segment.daemon import reconcile
 from segment.settings import Settings
-from tests.conftest import FIXTURES
+from tests.conftest import FIXTURES, corpus_dir
 
 DEMO = FIXTURES / "demo"
 
@@ -33,3 +35,18 @@ def chunk_records(out: Path) -> list[dict[str, Any]]:
     for path in sorted((out / "chunks").rglob("*.jsonl")):
         records += [json.loads(line) for line in path.read_text(encoding="utf-8").splitlines() if line]
     return records
+
+
+@pytest.fixture(scope="session")
+def markdown_corpus_256(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """The shared Markdown corpus built once at 256 tokens (skips when the corpus is absent)."""
+    # the shared corpus (../shared/corpus/markdown, licences in its SOURCE.md files)
+    src = corpus_dir("markdown")
+    if "markdown-256" not in _BUILT:  # one build per session, whichever test module asks first
+        _BUILT["markdown-256"] = build(
+            src, tmp_path_factory.mktemp("markdown-256") / "out", Settings(max_tokens=256)
+        )
+    return _BUILT["markdown-256"]
+
+
+_BUILT: dict[str, Path] = {}

@@ -16,9 +16,10 @@ from segment.report.baselines import flatten, windows
 from segment.report.compare import ChunkingFigures, window_figures
 from segment.settings import Settings
 from segment.tokens import EstimateCounter
-from tests.conftest import corpus_dir
-from tests.report_helpers import build, demo_copy
+from tests.report_helpers import build, demo_copy, markdown_corpus_256
 from tests.test_report_summary import SCHEMA
+
+__all__ = ["markdown_corpus_256"]  # the session fixture, built once for both corpus tests
 
 PAGE = b"""# Charging
 
@@ -95,10 +96,9 @@ def test_demo_ours_keep_rows_and_headings_where_windows_do_not(tmp_path: Path) -
 
 
 @pytest.mark.corpus
-def test_shared_markdown_corpus_at_256_tokens(tmp_path: Path) -> None:
+def test_shared_markdown_corpus_at_256_tokens(markdown_corpus_256: Path) -> None:
     # the shared corpus (../shared/corpus/markdown): fixed windows cut hundreds of table rows, ours none
-    out = build(corpus_dir("markdown"), tmp_path / "out", Settings(max_tokens=256))
-    rows = compare_rows(out)
+    rows = compare_rows(markdown_corpus_256)
     assert rows["ours"]["rows_split"] == 0
     assert rows["fixed windows"]["rows_split"] > 100
     assert rows["ours"]["mid_sentence"] * 3 < rows["fixed windows"]["mid_sentence"]

@@ -120,3 +120,29 @@ def test_pages_fetch_nothing_from_the_network(site: tuple[Path, Path], tmp_path:
         assert not FETCHING.search(page.read_text(encoding="utf-8")), page.name
     for page in (root / "index.html", pages[1]):
         assert not FETCHING.search(dump_dom(tmp_path, page)), page.name
+
+
+def test_a_chunk_url_is_linked_when_the_record_has_one(tmp_path: Path) -> None:
+    from io import StringIO
+
+    from segment.report.html.viewer import write_file_page
+
+    base = {"source": "a.md", "format": "markdown", "breadcrumb": ["A"], "blocks": ["paragraph"],
+            "lines": [1, 1], "pages": None, "anchor": "a", "oversize": False}  # fmt: skip
+    with_url = dict(base, id="0" * 32, seq=0, text="One.", tokens=2, url="https://docs.example/a#a")
+    without = dict(base, id="1" * 32, seq=1, text="Two and then", tokens=3)  # no url field at all
+    page = StringIO()
+    write_file_page(
+        page,
+        "a.md",
+        [with_url, without],
+        budget=16,
+        source_path=None,
+        page_dir=tmp_path,
+        overview="../index.html",
+    )
+    html = page.getvalue()
+    assert html.count('<article class="chunk') == 2
+    assert '<a href="https://docs.example/a#a">' in html  # a link to follow, not a resource to fetch
+    assert not FETCHING.search(html)
+    assert "ends mid-sentence" in html  # "Two and then" stops without a full stop

@@ -18,8 +18,10 @@ from click.testing import CliRunner
 
 from segment.cli import cli
 from segment.settings import Settings
-from tests.conftest import ROOT, corpus_dir
-from tests.report_helpers import build, chunk_records, demo_copy
+from tests.conftest import ROOT
+from tests.report_helpers import build, chunk_records, demo_copy, markdown_corpus_256
+
+__all__ = ["markdown_corpus_256"]  # a session fixture shared with the comparison tests
 
 SCHEMA = json.loads((ROOT / "segment" / "report" / "summary.schema.json").read_text(encoding="utf-8"))
 
@@ -114,9 +116,20 @@ def test_a_folder_without_output_is_a_clear_error(tmp_path: Path) -> None:
 
 
 @pytest.mark.corpus
-def test_shared_markdown_corpus_summary_matches_the_chunk_files(tmp_path: Path) -> None:
+def test_shared_markdown_corpus_summary_matches_the_chunk_files(markdown_corpus_256: Path) -> None:
     # the shared corpus (../shared/corpus/markdown, licences in its SOURCE.md files)
-    out = build(corpus_dir("markdown"), tmp_path / "out", Settings(max_tokens=256))
+    out = markdown_corpus_256
     data = report_json(out)
     check_against_chunk_files(data, out, 256)
     assert data["figures"]["chunks"] > 1000
+
+
+def test_hand_edited_lines_of_the_wrong_shape_are_counted_not_fatal(tmp_path: Path) -> None:
+    out = build(demo_copy(tmp_path), tmp_path / "out")
+    path = out / "chunks" / "reference" / "limits.md.jsonl"
+    records = [json.loads(line) for line in path.read_text(encoding="utf-8").splitlines()]
+    records[0]["tokens"] = "many"
+    path.write_text("".join(json.dumps(r) + "\n" for r in records) + "{}\n[1, 2]\n", encoding="utf-8")
+    data = report_json(out)
+    assert data["bad_lines"] == 3
+    assert data["figures"]["chunks"] == len(chunk_records(out)) - 3

@@ -82,6 +82,16 @@ class Output:
 REQUIRED = ("id", "source", "format", "seq", "breadcrumb", "text", "tokens", "blocks")
 
 
+def _is_record(record: object) -> bool:
+    """True for a JSON object with the chunk fields the report reads, of the right types."""
+    if not isinstance(record, dict) or any(k not in record for k in REQUIRED):
+        return False
+    ints = all(isinstance(record[k], int) and not isinstance(record[k], bool) for k in ("seq", "tokens"))
+    strings = all(isinstance(record[k], str) for k in ("id", "source", "format", "text"))
+    lists = all(isinstance(record[k], list) for k in ("breadcrumb", "blocks"))
+    return ints and strings and lists
+
+
 def read_chunk_file(path: Path, source: str) -> SourceChunks:
     """The records of one chunk file; malformed lines are counted in `bad_lines`."""
     found = SourceChunks(source, path)
@@ -94,7 +104,7 @@ def read_chunk_file(path: Path, source: str) -> SourceChunks:
             except ValueError:
                 found.bad_lines += 1
                 continue
-            if not isinstance(record, dict) or any(k not in record for k in REQUIRED):
+            if not _is_record(record):
                 found.bad_lines += 1
                 continue
             found.records.append(record)
