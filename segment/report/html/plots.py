@@ -9,6 +9,7 @@ import io
 from collections.abc import Mapping, Sequence
 from typing import Any
 
+from segment.report.figures import percentile
 from segment.report.summary import Summary
 
 COLOURS = ("#3b6ea5", "#d1793b", "#4a9a5b", "#8a5aa8", "#b8a03a", "#c04a5a", "#5a8a8a")
@@ -52,13 +53,20 @@ def token_histogram(tokens_by_format: Mapping[str, Sequence[int]], budget: int) 
     """Histogram of chunk sizes, one outline per format, with the budget marked."""
     plt = _pyplot()
     fig, ax = plt.subplots(figsize=(6.0, 2.8))
-    top = max([budget] + [max(v) for v in tokens_by_format.values() if v])
+    largest = max([budget] + [max(v) for v in tokens_by_format.values() if v])
+    top = min(largest, int(budget * 1.5))  # a few huge oversize chunks would squash the rest
     bins = [top * i / 40 for i in range(41)]
     for i, (fmt, values) in enumerate(sorted(tokens_by_format.items())):
-        ax.hist(values, bins=bins, histtype="step", linewidth=1.6, color=COLOURS[i % len(COLOURS)], label=fmt)
+        clipped = [min(v, top) for v in values]
+        ax.hist(
+            clipped, bins=bins, histtype="step", linewidth=1.6, color=COLOURS[i % len(COLOURS)], label=fmt
+        )
+    if largest > top:
+        ax.set_xlabel(f"tokens per chunk (over {top} counted in the last bar; largest {largest})")
+    else:
+        ax.set_xlabel("tokens per chunk")
     ax.axvline(budget, color="#b03030", linestyle="--", linewidth=1, label=f"budget {budget}")
     ax.yaxis.get_major_locator().set_params(integer=True)
-    ax.set_xlabel("tokens per chunk")
     ax.set_ylabel("chunks")
     ax.legend(frameon=False)
     svg = _svg(fig)
@@ -89,14 +97,16 @@ def chunks_per_file(counts: Sequence[int]) -> str:
     """Histogram of how many chunks each file gave."""
     plt = _pyplot()
     fig, ax = plt.subplots(figsize=(6.0, 2.4))
-    top = max(counts) if counts else 1
+    largest = max(counts) if counts else 1
+    top = max(1, min(largest, int(percentile(list(counts), 98) * 1.5) + 1))  # the long tail in one bar
     if top <= 40:  # one bar per count, centred on it
         bins: Any = [n - 0.5 for n in range(top + 2)]
     else:
-        bins = 40
-    ax.hist(list(counts), bins=bins, color=COLOURS[2], edgecolor="white")
+        bins = [top * i / 40 for i in range(41)]
+    ax.hist([min(c, top) for c in counts], bins=bins, color=COLOURS[2], edgecolor="white")
     ax.yaxis.get_major_locator().set_params(integer=True)
-    ax.set_xlabel("chunks per file")
+    tail = f" (over {top} counted in the last bar; largest {largest})" if largest > top else ""
+    ax.set_xlabel("chunks per file" + tail)
     ax.set_ylabel("files")
     svg = _svg(fig)
     plt.close(fig)
