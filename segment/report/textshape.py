@@ -44,6 +44,8 @@ def is_fence(line: str) -> bool:
 
 def open_fence(text: str) -> bool:
     """True when the text ends inside a fenced code block (an odd number of fence lines)."""
+    if "```" not in text:
+        return False
     return sum(1 for line in text.splitlines() if is_fence(line)) % 2 == 1
 
 
