@@ -146,3 +146,15 @@ def test_a_chunk_url_is_linked_when_the_record_has_one(tmp_path: Path) -> None:
     assert '<a href="https://docs.example/a#a">' in html  # a link to follow, not a resource to fetch
     assert not FETCHING.search(html)
     assert "ends mid-sentence" in html  # "Two and then" stops without a full stop
+
+
+def test_overlap_is_shown_in_the_text_and_in_the_source_margin(tmp_path: Path) -> None:
+    out = build(demo_copy(tmp_path), tmp_path / "out", Settings(max_tokens=96, overlap_tokens=24))
+    site = tmp_path / "site"
+    result = CliRunner().invoke(cli, ["report", str(out), "--html", str(site)], catch_exceptions=False)
+    assert result.exit_code == 0, result.output
+    pages = [p.read_text(encoding="utf-8") for p in (site / "files").glob("*.html")]
+    assert any('class="flag overlap"' in page and "<mark>" in page for page in pages)
+    assert any('class="ln both"' in page for page in pages)  # lines two chunks share
+    # the store keeps only a hash of the settings: budget and overlap are found from it
+    assert all("budget 96 tokens" in page for page in pages)

@@ -144,7 +144,9 @@ def _store_rows(out: Path) -> tuple[dict[str, FileRow], dict[str, str]]:
     return files, {str(k): str(v) for k, v in meta.items()}
 
 
-def build_settings(src: Path | None, overrides: dict[str, Any], fingerprint: str) -> tuple[Settings, bool]:
+def build_settings(
+    src: Path | None, overrides: dict[str, Any], fingerprint: str, largest: int = 0
+) -> tuple[Settings, bool]:
     """Settings of the build: flags, else the source root's segment.toml, else defaults.
 
     The second value says whether they match the fingerprint the store recorded (so the budget
@@ -157,7 +159,7 @@ def build_settings(src: Path | None, overrides: dict[str, Any], fingerprint: str
         settings = load_settings(None, overrides)
     if not fingerprint or settings.fingerprint() == fingerprint:
         return settings, bool(fingerprint)
-    found = None if "max_tokens" in overrides else _search_budget(settings, fingerprint)
+    found = None if "max_tokens" in overrides else _search_budget(settings, fingerprint, largest)
     return (found, True) if found is not None else (settings, False)
 
 
@@ -165,22 +167,33 @@ BUDGET_SEARCH = range(16, 16385)
 """Budgets tried when the settings at hand do not give the build's fingerprint."""
 
 
-def _search_budget(settings: Settings, fingerprint: str) -> Settings | None:
-    """The settings with the budget (and no overlap or the given one) that give `fingerprint`.
+def _search_budget(settings: Settings, fingerprint: str, largest: int = 0) -> Settings | None:
+    """The settings with the budget and overlap that give `fingerprint`, or None.
 
     The store records a hash of the settings, not the settings: a build made with
-    `--max-tokens 256` on the command line is found by trying each budget in turn (a few
-    milliseconds; skipped when a tokenizer file would be hashed at every try).
+    `--max-tokens 256` on the command line is found by trying each budget in turn with no
+    overlap (or the given one), then every overlap for budgets from `largest` (the biggest chunk
+    not flagged oversize: the budget is at least that) up to an eighth more (chunks fill their
+    budget closely). Under a second or two at worst; skipped when a tokenizer file would be
+    hashed at every try.
     """
     if settings.tokenizer:
         return None
-    for overlap in dict.fromkeys((settings.overlap_tokens, 0)):
-        for budget in BUDGET_SEARCH:
-            if overlap >= budget // 2:
-                continue
-            candidate = replace(settings, max_tokens=budget, overlap_tokens=overlap)
-            if candidate.fingerprint() == fingerprint:
-                return candidate
+
+    low = max(BUDGET_SEARCH.start, largest)
+
+    def tries() -> Iterator[tuple[int, int]]:
+        for overlap in dict.fromkeys((settings.overlap_tokens, 0)):
+            yield from ((budget, overlap) for budget in range(low, BUDGET_SEARCH.stop))
+        for budget in range(low, min(BUDGET_SEARCH.stop, low + low // 8 + 8)):
+            yield from ((budget, overlap) for overlap in range(1, budget // 2))
+
+    for budget, overlap in tries():
+        if overlap >= budget // 2:
+            continue
+        candidate = replace(settings, max_tokens=budget, overlap_tokens=overlap)
+        if candidate.fingerprint() == fingerprint:
+            return candidate
     return None
 
 
@@ -196,7 +209,11 @@ def read_output(out: Path, overrides: dict[str, Any] | None = None, src: Path | 
     files, meta = _store_rows(out)
     if src is None and meta.get("src"):
         src = Path(meta["src"])
-    settings, exact = build_settings(src, overrides or {}, meta.get("fingerprint", ""))
+    largest = max(
+        (int(r["tokens"]) for c in sources for r in c.records if not r.get("oversize")),
+        default=0,
+    )
+    settings, exact = build_settings(src, overrides or {}, meta.get("fingerprint", ""), largest)
     return Output(
         out=out,
         sources=sources,
