@@ -41,18 +41,9 @@ def run_report(
     if output is None:
         return 1
     summary = summarise(output, list_source=list_source)
-    if html_dir is not None:
-        from segment.report.html import write_site
-        from segment.report.html.plots import MissingPlotting
-
-        try:
-            index = write_site(output, summary, html_dir)
-        except MissingPlotting as exc:
-            click.echo(f"Error: {exc}", err=True)
-            return 2
-        click.echo(f"report site: {index}", err=True)
     data: dict[str, Any] = summary.to_dict()
     lines = summary_text(summary)
+    extra: list[tuple[str, list[str]]] = []
     if with_compare or queries is not None:
         from segment.report.compare import (
             compare,
@@ -73,15 +64,25 @@ def run_report(
         if with_compare:
             comparison = compare(output, flats)
             data["compare"] = comparison_dict(comparison)
-            lines += [
-                "",
-                "comparison with plain windows (same files, same budget):",
-                *comparison_text(comparison),
-            ]
+            extra.append(
+                ("Compared with plain windows (same files, same budget)", comparison_text(comparison))
+            )
         if queries is not None:
             rows = evaluate_queries(output, questions, flats)
             data["queries"] = as_plain(rows)
-            lines += ["", f"retrieval on {queries}:", *retrieval_text(rows)]
+            extra.append((f"Retrieval on {queries.name}", retrieval_text(rows)))
+    for title, section in extra:
+        lines += ["", f"{title}:", *section]
+    if html_dir is not None:
+        from segment.report.html import write_site
+        from segment.report.html.plots import MissingPlotting
+
+        try:
+            index = write_site(output, summary, html_dir, extra)
+        except MissingPlotting as exc:
+            click.echo(f"Error: {exc}", err=True)
+            return 2
+        click.echo(f"report site: {index}", err=True)
     if as_json:
         click.echo(json.dumps(data, ensure_ascii=False))
     else:

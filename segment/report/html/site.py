@@ -29,8 +29,13 @@ def page_name(source: str) -> str:
     return f"{slug}-{digest}.html"
 
 
-def write_site(output: Output, summary: Summary, site: Path) -> Path:
-    """Write the site into `site` and return the overview page's path."""
+def write_site(
+    output: Output, summary: Summary, site: Path, extra: list[tuple[str, list[str]]] | None = None
+) -> Path:
+    """Write the site into `site` and return the overview page's path.
+
+    `extra` sections (title, text lines), such as the comparison, go on the overview.
+    """
     pages = site / FILES_DIR
     pages.mkdir(parents=True, exist_ok=True)
     status = {row.source: row for row in output.files.values()}
@@ -47,6 +52,7 @@ def write_site(output: Output, summary: Summary, site: Path) -> Path:
                 source,
                 chunks.records,
                 budget=output.budget,
+                budget_known=output.settings_exact,
                 source_path=src_path,
                 page_dir=pages,
                 overview="../index.html",
@@ -72,6 +78,7 @@ def write_site(output: Output, summary: Summary, site: Path) -> Path:
                 row.source,
                 [],
                 budget=output.budget,
+                budget_known=output.settings_exact,
                 source_path=src_path,
                 page_dir=pages,
                 overview="../index.html",
@@ -97,6 +104,8 @@ def write_site(output: Output, summary: Summary, site: Path) -> Path:
         )
         fh.writelines(sorted(rows))
         fh.write("</tbody></table>")
+        for title, section in extra or []:
+            fh.write(f'<h2>{esc(title)}</h2><pre class="summary">{esc(chr(10).join(section))}</pre>')
         fh.write(f'<h2>Summary</h2><pre class="summary">{esc(chr(10).join(summary_text(summary)))}</pre>')
         fh.write(f"</main><script>{OVERVIEW_JS}</script></body></html>\n")
     return index
@@ -122,7 +131,7 @@ def _overview_head(summary: Summary) -> str:
     cards = [
         ("files", summary.files, False),
         ("chunks", f.chunks, False),
-        ("budget (tokens)", summary.budget, False),
+        ("budget (tokens)" if summary.budget_known else "budget (assumed)", summary.budget, False),
         ("median tokens", f"{f.tokens['all'].median:.0f}", False),
         ("oversize", len(f.oversize), bool(f.oversize)),
         ("over budget, unflagged", len(f.over_budget_unflagged), bool(f.over_budget_unflagged)),

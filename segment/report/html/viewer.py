@@ -191,6 +191,7 @@ def write_file_page(
     records: list[dict[str, Any]],
     *,
     budget: int,
+    budget_known: bool = True,
     source_path: Path | None,
     page_dir: Path,
     overview: str,
@@ -209,7 +210,8 @@ def write_file_page(
         f'<!DOCTYPE html><html lang="en"><head><meta charset="utf-8"><title>{esc(source)} · chunks</title>'
         f'<meta name="viewport" content="width=device-width, initial-scale=1"><style>{CSS}</style></head><body>'
         f'<header><h1>{esc(source)}</h1><div class="sub"><a href="{esc(overview)}">← overview</a> · '
-        f"{esc(fmt or 'no chunks')} · {len(records)} chunks · budget {budget} tokens{link}</div></header>"
+        f"{esc(fmt or 'no chunks')} · {len(records)} chunks · budget {budget} tokens"
+        f"{'' if budget_known else ' (assumed)'}{link}</div></header>"
         '<main class="viewer">'
     )
     if status != "ok":
