@@ -177,6 +177,7 @@ def _read_toml(path: Path) -> dict[str, Any]:
     table = data.get("segment", data)
     if not isinstance(table, dict):
         raise SettingsError(f"{path}: [segment] must be a table")
+    table = {k: v for k, v in table.items() if k not in OTHER_TABLES}
     if table.get("tokenizer"):
         tok = Path(str(table["tokenizer"]))
         table["tokenizer"] = str(tok if tok.is_absolute() else path.parent / tok)
@@ -215,3 +216,22 @@ def coerce(values: dict[str, Any], origin: str) -> Settings:
     """Build Settings from raw values, with errors that name the setting."""
     checked = coerce_dict(values, origin)
     return replace(Settings(), **checked)
+
+
+OTHER_TABLES: tuple[str, ...] = ("check",)
+"""Tables of segment.toml read by other commands, never settings of the chunks (`[check]`)."""
+
+
+def read_table(src: Path | None, name: str) -> dict[str, Any]:
+    """The `[name]` table of `segment.toml` in `src` ({} when there is none)."""
+    if src is None or not (src / CONFIG_NAME).is_file():
+        return {}
+    path = src / CONFIG_NAME
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
+        raise SettingsError(f"{path}: cannot read settings: {exc}") from exc
+    table = data.get(name, {})
+    if not isinstance(table, dict):
+        raise SettingsError(f"{path}: [{name}] must be a table")
+    return dict(table)
