@@ -33,17 +33,21 @@ def read_source(path: str | Path, settings: Settings | None = None) -> bytes:
 
 
 def parse_bytes(data: bytes, source: str, settings: Settings | None = None) -> Document:
-    """Parse bytes with the adapter chosen by `source`'s suffix."""
-    fn = adapter_for(source).load()
+    """Parse bytes with the adapter chosen by `source`'s suffix; the record's `format` is the
+    registry row's (see segment.adapters)."""
+    adapter = adapter_for(source)
+    fn = adapter.load()
     try:
         with paused_gc():  # adapters build large acyclic trees: see segment.gcpause
-            return fn(data, source, settings)
+            document = fn(data, source, settings)
     except SegmentError:
         raise
     except RecursionError as exc:
         raise ParseError(source, "nesting too deep for the parser", status="resource_limit") from exc
     except MemoryError as exc:
         raise ParseError(source, "out of memory while parsing", status="resource_limit") from exc
+    document.format = adapter.format
+    return document
 
 
 def parse(path: str | Path, settings: Settings | None = None, source: str | None = None) -> Document:
