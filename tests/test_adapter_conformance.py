@@ -136,7 +136,7 @@ SAMPLES: dict[str, Sample] = {
         ".html", lambda: HTML, lambda: b"<blockquote>" * 5_000 + b"deep" + b"</blockquote>" * 5_000
     ),
     "pdf": Sample(".pdf", _pdf, _pdf_deep_outline),
-    "rst": Sample(".rst", lambda: RST, lambda: b"".join(b"   " * i + b"deep\n\n" for i in range(3_000))),
+    "rst": Sample(".rst", lambda: RST, lambda: b"".join(b"   " * i + b"deep\n\n" for i in range(1_000))),
 }
 
 

@@ -66,6 +66,7 @@ ADAPTERS: tuple[Adapter, ...] = (
     Adapter("markdown", (".md", ".markdown", ".mdown", ".mkd"), "segment.adapters.markdown"),
     Adapter("html", (".html", ".htm", ".xhtml"), "segment.adapters.html"),
     Adapter("pdf", (".pdf",), "segment.adapters.pdf"),
+    Adapter("rst", (".rst", ".rest"), "segment.adapters.rst"),
 )
 
 FORMATS: tuple[str, ...] = tuple(a.format for a in ADAPTERS)
