@@ -140,7 +140,7 @@ class TreeBuilder:
 
     def block(self, node: nodes.Node, depth: int) -> list[Block]:
         if isinstance(node, nodes.Text):
-            text = " ".join(node.astext().split())
+            text = " ".join(node.astext().split())  # astext resolves docutils' escape markers
             return [Paragraph(text=text)] if text else []
         if not isinstance(node, nodes.Element) or isinstance(node, _SKIP):
             return []
@@ -256,7 +256,7 @@ class TreeBuilder:
         )
         if isinstance(node, nodes.doctest_block):
             language = "pycon"
-        lines = node.astext().split("\n")
+        lines = self.inline(node, code=True).split("\n")  # parsed literals may hold references
         first = node.get("first_line")
         if not isinstance(first, int):
             first = span.lines[0] if span.lines else None
@@ -301,7 +301,10 @@ class TreeBuilder:
                 blocks = self.blocks(list(body.children), depth + 1) if body is not None else []
             elif isinstance(field, nodes.authors):
                 term = _LABELS.get("authors", "Authors")
-                blocks = [Paragraph(text="; ".join(" ".join(a.astext().split()) for a in field.children))]
+                blocks = [p for a in field.children for p in self.paragraph(a)]
+            elif isinstance(field, nodes.address):
+                term = _LABELS.get("address", "Address")
+                blocks = [Code(lines=field.astext().split("\n"))]  # kept line for line, as docutils does
             elif isinstance(field, nodes.TextElement):
                 term = _LABELS.get(field.tagname, field.tagname.capitalize())
                 blocks = self.paragraph(field)
@@ -408,20 +411,18 @@ class TreeBuilder:
                 out.extend(self.inline_blocks(child) if child.children else [])
         return out
 
-    def inline(self, node: nodes.Node) -> str:
-        """The text a reader sees of inline markup (literals keep backticks)."""
+    def inline(self, node: nodes.Node, code: bool = False) -> str:
+        """The text a reader sees of inline markup (literals keep backticks outside code)."""
         parts: list[str] = []
-        stack: list[nodes.Node | str] = [node]
+        stack: list[nodes.Node] = [node]
         while stack:
             current = stack.pop()
-            if isinstance(current, str):
-                parts.append(current)
-            elif isinstance(current, nodes.Text):
-                parts.append(current.astext())
+            if isinstance(current, nodes.Text):
+                parts.append(current.astext())  # escapes resolved (docutils keeps them as NULs)
             elif isinstance(current, nodes.system_message | nodes.raw | nodes.target | nodes.comment):
                 if isinstance(current, nodes.target) and current.children:
                     stack.extend(reversed(current.children))
-            elif isinstance(current, nodes.literal):
+            elif isinstance(current, nodes.literal) and not code:
                 parts.append("`" + current.astext() + "`")
             elif isinstance(current, nodes.footnote_reference | nodes.citation_reference):
                 parts.append("[" + current.astext() + "]")
