@@ -52,7 +52,6 @@ _SKIP = (
     nodes.decoration,
     nodes.meta,
     nodes.title,
-    nodes.subtitle,
 )
 _NOTES = (nodes.footnote, nodes.citation)
 _BIBLIOGRAPHIC = {

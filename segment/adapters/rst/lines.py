@@ -25,7 +25,11 @@ class LineMap:
         order = list(document.findall(nodes.Element))
         self.bounds: dict[int, tuple[int, int]] = {}
         """id(node) -> (first, last) known start line in the node's subtree, filled bottom-up."""
+        inline = {id(n) for n in order if isinstance(n.parent, nodes.TextElement)}
+        """Inline nodes: their lines may be those of a substitution's definition, elsewhere."""
         for node in reversed(order):
+            if id(node) in inline:
+                continue
             own = self.line_of(node)
             first, last = (own, own) if own is not None else (None, None)
             for child in node.children:
@@ -35,7 +39,9 @@ class LineMap:
                     last = inner[1] if last is None else max(last, inner[1])
             if first is not None and last is not None:
                 self.bounds[id(node)] = (first, last)
-        self.starts = sorted({line for node in order if (line := self.line_of(node)) is not None})
+        self.starts = sorted(
+            {line for node in order if id(node) not in inline and (line := self.line_of(node)) is not None}
+        )
 
     def line_of(self, node: nodes.Node) -> int | None:
         """Where `node` itself begins in this source (a title: its text, or its overline)."""
