@@ -142,8 +142,8 @@ def main(argv: list[str] | None = None) -> int:
         shutil.rmtree(out, ignore_errors=True)
     base = best["docutils publish_doctree"]
     print(f"{len(docs)} files, {size / 1e6:.2f} MB, max_tokens={args.max_tokens}, best of {args.repeat}")
-    print(f"| {"step":<40} | {'CPU s':>7} | {'MB/s':>6} | {'x raw':>6} |")
-    print(f"|{"-" * 42}|{'-' * 9}|{'-' * 8}|{'-' * 8}|")
+    print(f"| {'step':<40} | {'CPU s':>7} | {'MB/s':>6} | {'x raw':>6} |")
+    print(f"|{'-' * 42}|{'-' * 9}|{'-' * 8}|{'-' * 8}|")
     for name, _ in steps:
         t = best[name]
         print(f"| {name:<40} | {t:7.2f} | {size / 1e6 / t:6.2f} | {t / base:6.2f} |")
