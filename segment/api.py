@@ -37,8 +37,10 @@ def read_source(path: str | Path, settings: Settings | None = None) -> bytes:
 
 
 def parse_bytes(data: bytes, source: str, settings: Settings | None = None) -> Document:
-    """Parse bytes with the adapter chosen by `source`'s suffix."""
-    fn = adapter_for(source).load()
+    """Parse bytes with the adapter chosen by `source`'s suffix; the record's `format` is the
+    registry row's (see segment.adapters)."""
+    adapter = adapter_for(source)
+    fn = adapter.load()
     try:
         with paused_gc():  # adapters build large acyclic trees: see segment.gcpause
             document = fn(data, source, settings)
@@ -48,8 +50,9 @@ def parse_bytes(data: bytes, source: str, settings: Settings | None = None) -> D
         raise ParseError(source, "nesting too deep for the parser", status="resource_limit") from exc
     except MemoryError as exc:
         raise ParseError(source, "out of memory while parsing", status="resource_limit") from exc
-    if document.title is None:
-        derived = title_from_name(source)
+    document.format = adapter.format
+    if document.title is None and not any(s.heading and s.heading.level == 1 for s in document.sections):
+        derived = title_from_name(source)  # a page titled by its site's navigation, not by itself
         if derived:
             document.title, document.title_origin = derived, TitleOrigin.FILE_NAME
     return document

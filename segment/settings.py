@@ -94,6 +94,9 @@ class Settings:
     (`a/b.md` -> `a/b/`, `a/index.md` -> `a/`) or a template with `{path}`, `{stem}`, `{dir}`."""
     pdf_keep_contents: bool = False
     """Keep a PDF's table of contents and index pages as chunks (left out by default)."""
+    rst_include_root: str | None = None
+    """Folder whose files reStructuredText `include`, `literalinclude` and `csv-table :file:` may
+    read; None (the default) reads no other file. Paths outside it are never read."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
@@ -124,6 +127,8 @@ class Settings:
         data["output_version"] = OUTPUT_VERSION
         if self.tokenizer:
             data["tokenizer_sha"] = _file_sha(self.tokenizer)
+        if self.rst_include_root:
+            data["rst_include_root"] = self.rst_include_root
         blob = json.dumps(data, sort_keys=True).encode()
         return hashlib.sha256(blob).hexdigest()[:16]
 
@@ -181,6 +186,10 @@ def _read_toml(path: Path) -> dict[str, Any]:
     if table.get("tokenizer"):
         tok = Path(str(table["tokenizer"]))
         table["tokenizer"] = str(tok if tok.is_absolute() else path.parent / tok)
+    for key in ("rst_include_root", "rst-include-root"):
+        if table.get(key):
+            root = Path(str(table[key]))
+            table[key] = str(root if root.is_absolute() else path.parent / root)
     return coerce_dict(table, origin=str(path))
 
 

@@ -1,27 +1,56 @@
-"""Adapter registry: which module turns which files into the common tree.
+"""Adapter registry and the contract every adapter keeps.
 
-Each adapter module exposes `parse(data: bytes, source: str, settings: Settings | None = None)
--> Document` and raises `segment.errors.ParseError` (or a subclass) with a reason when it cannot.
+An adapter is a module with a `parse` function (see `ParseFn`) that turns one file's bytes into
+the common tree (`segment.tree`). What every adapter promises, checked for each registered
+format by tests/test_adapter_conformance.py:
+
+1. Spans: every heading, block, list item, definition and table row carries a `Span` that says
+   where it came from (`lines` for text formats, `pages` for paged ones); `finish_spans` fills
+   the sections' spans from their contents.
+2. Depth cap: no block sits inside more than `MAX_BLOCK_DEPTH` containers (lists, quotes,
+   definition lists); content below the cap is kept as flat text, never dropped silently.
+3. Warnings: whatever the adapter drops, guesses or flattens is said in `Document.warnings` (one
+   short sentence each), so a file's result is never silently partial.
+4. Determinism: the same bytes and settings give the same tree, field for field (no clocks, no
+   random numbers, no iteration over unordered sets into output).
+5. Errors: an adapter raises only `segment.errors.SegmentError` subclasses, each naming the file
+   and the reason with a machine-readable `status`: `ParseError` with `corrupt` (not this format,
+   binary or unreadable content), `encrypted`, `empty` or `no_text` where the format has them,
+   `resource_limit` (`TooLarge`, or nesting/memory past what the parser can hold). Any other
+   exception is a bug. `api.parse_bytes` turns a stray `RecursionError` or `MemoryError` into a
+   `resource_limit` error as a last guard.
+6. No output of its own: nothing printed to stdout or stderr, no network, no file read beyond
+   the bytes given (unless a setting allows reading inside the source root).
+
+The `format` string of a document comes from its registry row: `api.parse_bytes` sets it, so an
+adapter need not (and the JSON Schema's `format` enum is tested against `FORMATS`). Adding a
+format is one new module plus one row of `ADAPTERS` (and the schema's enum).
 """
 
 from __future__ import annotations
 
 import importlib
-from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import PurePath
+from typing import Protocol
 
 from segment.errors import UnsupportedFormat
 from segment.settings import Settings
 from segment.tree import Document
 
-ParseFn = Callable[[bytes, str, Settings | None], Document]
-"""An adapter: the file's bytes, its display name and the settings in, a Document out."""
+MAX_BLOCK_DEPTH = 64
+"""Most containers (lists, quotes, definition lists) an adapter may nest around a block. The segmenter and renderer recurse per level; real documents stay far below it."""
+
+
+class ParseFn(Protocol):
+    """An adapter: the file's bytes, its display name and the settings in, a Document out."""
+
+    def __call__(self, data: bytes, source: str, settings: Settings | None = None, /) -> Document: ...
 
 
 @dataclass(frozen=True, slots=True)
 class Adapter:
-    """One row of the registry."""
+    """One row of the registry: the format name written into records, its suffixes, its module."""
 
     format: str
     suffixes: tuple[str, ...]
@@ -39,7 +68,11 @@ ADAPTERS: tuple[Adapter, ...] = (
     Adapter("pdf", (".pdf",), "segment.adapters.pdf"),
     Adapter("notebook", (".ipynb",), "segment.adapters.notebook"),
     Adapter("text", (".txt",), "segment.adapters.plaintext"),
+    Adapter("rst", (".rst", ".rest"), "segment.adapters.rst"),
 )
+
+FORMATS: tuple[str, ...] = tuple(a.format for a in ADAPTERS)
+"""Every registered format name, in registry order (the schema's `format` enum)."""
 
 SUPPORTED_SUFFIXES: frozenset[str] = frozenset(s for a in ADAPTERS for s in a.suffixes)
 
