@@ -11,18 +11,18 @@ from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 from typing import Protocol
 
+from segment.daemon.vocabulary import ChangeKind
+
 
 @dataclass(frozen=True, slots=True)
 class Change:
     """One hint from the watcher."""
 
-    kind: str
-    """`file` (look at this path), `folder` (rescan below it), `full` (rescan everything) or
-    `cookie` (a `Watcher.sync()` barrier file; `path` holds its token)."""
+    kind: ChangeKind
     path: str = ""
 
 
-FULL = Change("full")
+FULL = Change(ChangeKind.FULL)
 
 
 class EventSource(Protocol):
@@ -77,13 +77,13 @@ class Coalescer:
         if self.empty():
             self._first = now
         self._last = now
-        if change.kind == "file":
+        if change.kind == ChangeKind.FILE:
             self._files[change.path] = None
-        elif change.kind == "folder":
+        elif change.kind == ChangeKind.FOLDER:
             self._folders[change.path] = None
-        elif change.kind == "cookie":
+        elif change.kind == ChangeKind.COOKIE:
             self._cookies[change.path] = None
-        elif change.kind == "full":
+        elif change.kind == ChangeKind.FULL:
             self._full = True
         if self._full or len(self._files) + len(self._folders) > MAX_PATHS:
             self._full = True

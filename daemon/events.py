@@ -17,6 +17,7 @@ from watchdog.events import FileSystemEvent, FileSystemEventHandler
 
 from segment.daemon.batching import FULL, Change
 from segment.daemon.scope import COOKIE_PREFIX, Scope, is_litter
+from segment.daemon.vocabulary import ChangeKind
 
 log = logging.getLogger(__name__)
 
@@ -64,12 +65,12 @@ def changes_of(event: FileSystemEvent, scope: Scope) -> list[Change]:
             continue
         name = rel.rsplit("/", 1)[-1]
         if "/" not in rel and name.startswith(COOKIE_PREFIX):
-            out.append(Change("cookie", name[len(COOKIE_PREFIX) :]))
+            out.append(Change(ChangeKind.COOKIE, name[len(COOKIE_PREFIX) :]))
         elif event.is_directory:
             if event.event_type != "modified" and event.event_type != "attrib":
-                out.append(Change("folder", rel))
+                out.append(Change(ChangeKind.FOLDER, rel))
         elif not is_litter(name) and scope.file_wanted(rel):
-            out.append(Change("file", rel))
+            out.append(Change(ChangeKind.FILE, rel))
     return out
 
 

@@ -19,6 +19,7 @@ from pathlib import Path
 from typing import Any
 
 from segment.daemon.durable import crashpoint
+from segment.daemon.vocabulary import FeedOp
 
 FEED_NAME = "changes.jsonl"
 
@@ -27,24 +28,23 @@ FEED_NAME = "changes.jsonl"
 class FeedEntry:
     """One line of the feed before it is numbered."""
 
-    op: str
-    """`upsert`, `delete` or `error`."""
+    op: FeedOp
     source: str
     id: str | None = None
     error: str | None = None
 
     def to_dict(self, seq: int) -> dict[str, Any]:
         """The JSON form, keys in the documented order."""
-        if self.op == "error":
-            return {"seq": seq, "op": "error", "source": self.source, "error": self.error}
-        return {"seq": seq, "op": self.op, "id": self.id, "source": self.source}
+        if self.op == FeedOp.ERROR:
+            return {"seq": seq, "op": str(self.op), "source": self.source, "error": self.error}
+        return {"seq": seq, "op": str(self.op), "id": self.id, "source": self.source}
 
 
 def diff_ids(source: str, old: list[str], new: list[str]) -> list[FeedEntry]:
     """Entries for one file: delete ids that disappeared, then upsert ids that appeared."""
     old_set, new_set = set(old), set(new)
-    out = [FeedEntry("delete", source, id=i) for i in dict.fromkeys(old) if i not in new_set]
-    out += [FeedEntry("upsert", source, id=i) for i in dict.fromkeys(new) if i not in old_set]
+    out = [FeedEntry(FeedOp.DELETE, source, id=i) for i in dict.fromkeys(old) if i not in new_set]
+    out += [FeedEntry(FeedOp.UPSERT, source, id=i) for i in dict.fromkeys(new) if i not in old_set]
     return out
 
 
@@ -93,9 +93,9 @@ def compensation(out: Path, committed_seq: int, committed: dict[str, list[str]])
     for entry in read_feed(out, after=committed_seq):
         source = entry["source"]
         view = views.setdefault(source, dict.fromkeys(committed.get(source, [])))
-        if entry["op"] == "upsert":
+        if entry["op"] == FeedOp.UPSERT:
             view[entry["id"]] = None
-        elif entry["op"] == "delete":
+        elif entry["op"] == FeedOp.DELETE:
             view.pop(entry["id"], None)
     out_entries: list[FeedEntry] = []
     for source, view in views.items():
@@ -155,8 +155,8 @@ def replay(out: Path) -> dict[str, str]:
     """Apply the whole feed as set operations: the current id -> source map it implies."""
     ids: dict[str, str] = {}
     for entry in read_feed(out):
-        if entry["op"] == "upsert":
+        if entry["op"] == FeedOp.UPSERT:
             ids[entry["id"]] = entry["source"]
-        elif entry["op"] == "delete":
+        elif entry["op"] == FeedOp.DELETE:
             ids.pop(entry["id"], None)
     return ids

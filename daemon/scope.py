@@ -21,8 +21,8 @@ from pathlib import Path
 
 import pathspec
 
-from segment.daemon.store import StatSig
 from segment.adapters import is_supported
+from segment.daemon.store import StatSig
 from segment.settings import Settings
 
 COOKIE_PREFIX = ".docsegment-cookie-"

@@ -17,6 +17,8 @@ from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from segment.daemon.vocabulary import FileStatus
+
 log = logging.getLogger(__name__)
 
 STATE_NAME = "state.sqlite3"
@@ -78,7 +80,7 @@ class FileState:
     hash: str
     fingerprint: str
     ids: list[str] = field(default_factory=list)
-    status: str = "ok"
+    status: str = FileStatus.OK
     error: str | None = None
     failures: int = 0
     recorded_ns: int = 0

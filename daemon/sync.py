@@ -29,6 +29,7 @@ from segment.daemon.lock import OutputLock
 from segment.daemon.report import SyncReport
 from segment.daemon.scope import Scope, display_name
 from segment.daemon.store import FileState, StatSig, Store
+from segment.daemon.vocabulary import TRANSIENT_STATUSES, FeedOp, FileStatus
 from segment.daemon.workers import Outcome, Task, WorkerPool, content_hash
 from segment.settings import Settings
 
@@ -42,7 +43,6 @@ RETRIES_ON_CHANGE = 3
 """Attempts for a file that keeps changing while it is parsed, before waiting for a later pass."""
 RETRY_LIMIT = 3
 """A file that failed with a transient status is retried until it failed this often unchanged."""
-TRANSIENT = frozenset({"timeout", "crashed", "resource_limit", "error", "unreadable"})
 
 Progress = Callable[[int, int], None]
 """Called with (files done, files to parse) while a reconcile parses."""
@@ -189,7 +189,7 @@ class Syncer:
 
     def _unchanged(self, rel: str, sig: StatSig, row: FileState) -> bool:
         """True when the file needs no parse; refreshes the row when only its stat moved."""
-        retry = row.status in TRANSIENT and row.failures < RETRY_LIMIT
+        retry = row.status in TRANSIENT_STATUSES and row.failures < RETRY_LIMIT
         if row.trusts(sig, self.fingerprint):
             return not retry
         if row.fingerprint != self.fingerprint or not row.hash:
@@ -225,13 +225,13 @@ class Syncer:
                 rel = outcome.path
                 if outcome.pid:
                     report.parse_pids.add(outcome.pid)
-                if outcome.status == "changed":
+                if outcome.status == FileStatus.CHANGED:
                     attempts[rel] = attempts.get(rel, 0) + 1
                     if attempts[rel] < RETRIES_ON_CHANGE:
                         again[rel] = to_parse[rel]
                         continue
                     report.skipped.append(display_name(rel))
-                elif outcome.status == "missing":
+                elif outcome.status == FileStatus.MISSING:
                     sig = self.scope.stat_file(rel)
                     if sig is not None and attempts.get(rel, 0) < RETRIES_ON_CHANGE:
                         attempts[rel] = attempts.get(rel, 0) + 1
@@ -262,7 +262,7 @@ class Syncer:
             # know. Its ids may never have reached the feed, so everything kept is re-announced.
             old_ids, announced = self._ids_in_chunk_file(rel), False
         group = self._group
-        if outcome.status == "ok":
+        if outcome.status == FileStatus.OK:
             assert outcome.sig is not None
             path = self.chunk_path(rel)
             group.writes.append(self._writer.submit(write_if_changed, path, outcome.data))
@@ -270,12 +270,12 @@ class Syncer:
             crashpoint("mid_batch")
             entries = diff_ids(source, old_ids, outcome.ids)
             if not announced:
-                entries = [e for e in entries if e.op == "delete"]
-                entries += [FeedEntry("upsert", source, id=i) for i in dict.fromkeys(outcome.ids)]
+                entries = [e for e in entries if e.op == FeedOp.DELETE]
+                entries += [FeedEntry(FeedOp.UPSERT, source, id=i) for i in dict.fromkeys(outcome.ids)]
             group.entries += entries
             report.parsed += 1
-            report.added += sum(1 for e in entries if e.op == "upsert")
-            report.removed += sum(1 for e in entries if e.op == "delete")
+            report.added += sum(1 for e in entries if e.op == FeedOp.UPSERT)
+            report.removed += sum(1 for e in entries if e.op == FeedOp.DELETE)
             # Chunks kept, with a note: what the adapter could not keep or had to guess.
             for warning in outcome.warnings:
                 log.warning("%s: %s", source, warning)
@@ -301,15 +301,15 @@ class Syncer:
             except OSError:
                 pass
         same = row is not None and (row.hash == outcome.hash if outcome.hash else row.sig == sig)
-        failures = (row.failures + 1) if (row is not None and same and row.status != "ok") else 1
+        failures = (row.failures + 1) if (row is not None and same and row.status != FileStatus.OK) else 1
         reason = outcome.reason or outcome.status
-        if outcome.status in TRANSIENT and failures >= RETRY_LIMIT:
+        if outcome.status in TRANSIENT_STATUSES and failures >= RETRY_LIMIT:
             reason += f" (failed {failures} times; quarantined until the file changes)"
         log.warning("%s: %s: %s", source, outcome.status, reason)
         report.failed.append((source, outcome.status, reason))
-        group.entries.append(FeedEntry("error", source, error=f"{outcome.status}: {reason}"))
+        group.entries.append(FeedEntry(FeedOp.ERROR, source, error=f"{outcome.status}: {reason}"))
         if not announced:
-            group.entries += [FeedEntry("upsert", source, id=i) for i in old_ids]
+            group.entries += [FeedEntry(FeedOp.UPSERT, source, id=i) for i in old_ids]
         group.rows.append(
             FileState(
                 rel,
@@ -328,7 +328,7 @@ class Syncer:
     def _delete(self, row: FileState, report: SyncReport) -> None:
         path = self.chunk_path(row.path)
         self._unlink_chunk_file(path)
-        entries = [FeedEntry("delete", row.source, id=i) for i in dict.fromkeys(row.ids)]
+        entries = [FeedEntry(FeedOp.DELETE, row.source, id=i) for i in dict.fromkeys(row.ids)]
         self._group.entries += entries
         self._group.gone.append(row.path)
         report.deleted += 1
@@ -368,7 +368,7 @@ class Syncer:
         for path in sorted(orphans):
             ids, source = read_ids(path)
             self._unlink_chunk_file(path)
-            self._group.entries += [FeedEntry("delete", source, id=i) for i in dict.fromkeys(ids)]
+            self._group.entries += [FeedEntry(FeedOp.DELETE, source, id=i) for i in dict.fromkeys(ids)]
         self._group.gone.clear()  # no rows to drop
         self._flush(report)
         log.info("removed %d chunk files whose sources are gone", len(orphans))

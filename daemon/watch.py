@@ -40,6 +40,7 @@ from segment.daemon.events import (
 )
 from segment.daemon.scope import COOKIE_PREFIX
 from segment.daemon.sync import SourceEmpty, SourceMissing, Syncer, SyncReport
+from segment.daemon.vocabulary import WatcherState
 from segment.settings import Settings
 
 log = logging.getLogger(__name__)
@@ -68,7 +69,7 @@ class WatchLoop:
         self.events: queue.Queue[FileSystemEvent | Change] = queue.Queue()
         self.alarm = OverflowAlarm(self.events)
         self.observer: Any = None
-        self.degraded = ""
+        self.degraded = WatcherState.HEALTHY
         self.report = SyncReport()
         """Counts summed over every pass since start."""
         self.observer_restarts = 0
@@ -92,16 +93,16 @@ class WatchLoop:
             if self.observer.is_alive():
                 self.observer.join(5)
             self.observer = None
-        self._set_degraded("")
+        self._set_degraded(WatcherState.HEALTHY)
 
     def _start_observer(self) -> None:
         src = str(self.syncer.src)
         reason = (
-            "network_fs"
+            WatcherState.NETWORK_FS
             if needs_polling(self.syncer.src)
-            else "watch_limit"
+            else WatcherState.WATCH_LIMIT
             if watch_limit_exceeded(self.syncer.src)
-            else ""
+            else WatcherState.HEALTHY
         )
         polling = bool(reason)
         observer: Any = PollingObserver(timeout=1.0) if polling else Observer()
@@ -110,11 +111,11 @@ class WatchLoop:
             observer.start()
         except OSError as exc:
             log.warning("cannot watch %s with inotify (%s); falling back to polling", src, exc)
-            polling, reason = True, "watch_limit"
+            polling, reason = True, WatcherState.WATCH_LIMIT
             observer = PollingObserver(timeout=1.0)
             observer.schedule(EnqueueHandler(self.events), src, recursive=True)
             observer.start()
-        if reason == "network_fs":
+        if reason == WatcherState.NETWORK_FS:
             log.warning(
                 "%s is on a network file system (%s): watching by polling", src, fs_type(self.syncer.src)
             )
@@ -147,24 +148,24 @@ class WatchLoop:
                 self.report.merge(report)
                 log.info("%s", report.line("batch"))
         except SourceEmpty as exc:
-            if self.degraded != "root_empty":
+            if self.degraded != WatcherState.ROOT_EMPTY:
                 log.error("%s; paused until files are back", exc)
-            self._set_degraded("root_empty")
+            self._set_degraded(WatcherState.ROOT_EMPTY)
             self._last_full = self.clock() - self.rescan_s + min(WRITE_RETRY_S, self.rescan_s)
         except SourceMissing as exc:
-            if self.degraded != "root_missing":
+            if self.degraded != WatcherState.ROOT_MISSING:
                 log.error("%s; paused until it is back", exc)
-            self._set_degraded("root_missing")
+            self._set_degraded(WatcherState.ROOT_MISSING)
         except (OSError, sqlite3.Error) as exc:
             # Disk full or an I/O error: nothing past the last commit was recorded. Retry the
             # whole tree in a few seconds (never trust a failed fsync: RELIABILITY S3).
             log.error("cannot write the output: %s; retrying with a full reconcile", exc)
-            self._set_degraded("write_error")
+            self._set_degraded(WatcherState.WRITE_ERROR)
             self._last_full = self.clock() - self.rescan_s + WRITE_RETRY_S
             return  # the barriers wait for the retry
         else:
-            if self.degraded in ("write_error", "root_empty") and batch.full:
-                self._set_degraded("")
+            if self.degraded in (WatcherState.WRITE_ERROR, WatcherState.ROOT_EMPTY) and batch.full:
+                self._set_degraded(WatcherState.HEALTHY)
         self._release(batch.cookies)
 
     def _full(self, what: str) -> SyncReport:
@@ -179,13 +180,13 @@ class WatchLoop:
     def _supervise(self) -> Sequence[Change]:
         """Idle-time checks: vanished or returning root, dead observer, periodic rescan."""
         if not self.syncer.src.is_dir():
-            if self.degraded != "root_missing":
+            if self.degraded != WatcherState.ROOT_MISSING:
                 log.error(
                     "%s: source folder is missing; paused until it is back (output kept)", self.syncer.src
                 )
-                self._set_degraded("root_missing")
+                self._set_degraded(WatcherState.ROOT_MISSING)
             return ()
-        if self.degraded == "root_missing":
+        if self.degraded == WatcherState.ROOT_MISSING:
             log.warning("%s is back; resuming", self.syncer.src)
             self._restart_observer()
             return [FULL]
@@ -215,7 +216,9 @@ class WatchLoop:
         except OSError as exc:  # e.g. the root vanished again: the next idle check retries
             log.error("cannot restart the file watcher on %s: %s", self.syncer.src, exc)
             self.observer = None
-            self._set_degraded("root_missing" if not self.syncer.src.is_dir() else "watch_failed")
+            self._set_degraded(
+                WatcherState.ROOT_MISSING if not self.syncer.src.is_dir() else WatcherState.WATCH_FAILED
+            )
 
     # -- barrier ---------------------------------------------------------------------------
 
@@ -258,7 +261,7 @@ class WatchLoop:
         with self.syncer.store.transaction():
             self.syncer.store.bump(key)
 
-    def _set_degraded(self, value: str, force: bool = False) -> None:
+    def _set_degraded(self, value: WatcherState, force: bool = False) -> None:
         """Record why the output may lag (shown by `segment status`); written only on change."""
         if value == self.degraded and not force:
             return

@@ -26,8 +26,10 @@ from multiprocessing.connection import Connection
 from typing import Any
 
 from segment.daemon.store import StatSig
+from segment.daemon.vocabulary import FileStatus
 from segment.errors import SegmentError
 from segment.settings import Settings
+from segment.tree import Document
 
 log = logging.getLogger(__name__)
 
@@ -79,7 +81,7 @@ class Outcome:
     @property
     def failed(self) -> bool:
         """True for a failure status (not ok/changed/missing)."""
-        return self.status not in ("ok", "changed", "missing")
+        return self.status not in (FileStatus.OK, FileStatus.CHANGED, FileStatus.MISSING)
 
 
 class WorkerStartError(RuntimeError):
@@ -128,11 +130,15 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
     try:
         st0 = os.stat(task.abspath)
     except FileNotFoundError:
-        return Outcome(task.path, "missing", "file vanished before it could be read", pid=os.getpid())
+        return Outcome(
+            task.path, FileStatus.MISSING, "file vanished before it could be read", pid=os.getpid()
+        )
     except OSError as exc:
-        return Outcome(task.path, "unreadable", f"cannot stat: {exc.strerror or exc}", pid=os.getpid())
+        return Outcome(
+            task.path, FileStatus.UNREADABLE, f"cannot stat: {exc.strerror or exc}", pid=os.getpid()
+        )
     sig = StatSig.of(st0)
-    out = Outcome(task.path, "ok", sig=sig, recorded_ns=recorded, pid=os.getpid())
+    out = Outcome(task.path, FileStatus.OK, sig=sig, recorded_ns=recorded, pid=os.getpid())
     try:
         if st0.st_size > settings.max_file_bytes:
             raise segment.TooLarge(
@@ -145,35 +151,35 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
             _misbehave(task.path, settings.memory_mb)
         document = segment.parse_bytes(data, task.source, settings)
         out.warnings = list(document.warnings)
-        if task.patient and _maybe_incomplete(document.warnings, st0.st_mtime_ns):
+        if task.patient and _maybe_incomplete(document, st0.st_mtime_ns):
             # RELIABILITY W6/P3: MuPDF "repairs" a PDF cut mid-copy into partial text. While
             # the file is young, wait for the writer to finish rather than publish a part.
             reason = "PDF needed repair and was modified moments ago (a copy in progress?)"
-            return Outcome(task.path, "changed", reason, pid=os.getpid())
+            return Outcome(task.path, FileStatus.CHANGED, reason, pid=os.getpid())
         chunks = list(segment.chunk(document, settings))
         out.data = b"".join((c.to_json() + "\n").encode("utf-8", "replace") for c in chunks)
         out.ids = [c.id for c in chunks]
     except FileNotFoundError:
-        out.status, out.reason = "missing", "file vanished while it was read"
+        out.status, out.reason = FileStatus.MISSING, "file vanished while it was read"
     except SegmentError as exc:
         out.status, out.reason = exc.status, exc.reason
-        if exc.status == "missing":
+        if exc.status == FileStatus.MISSING:
             out.reason = "file vanished while it was read"
     except (MemoryError, RecursionError) as exc:
-        out.status = "resource_limit"
+        out.status = FileStatus.RESOURCE_LIMIT
         out.reason = "out of memory" if isinstance(exc, MemoryError) else "nesting too deep"
         out.data, out.ids = b"", []
     except OSError as exc:
-        out.status, out.reason = "unreadable", f"cannot read: {exc.strerror or exc}"
+        out.status, out.reason = FileStatus.UNREADABLE, f"cannot read: {exc.strerror or exc}"
     except Exception as exc:
-        out.status, out.reason = "error", f"{type(exc).__name__}: {exc}"
-    if out.status == "ok":
+        out.status, out.reason = FileStatus.ERROR, f"{type(exc).__name__}: {exc}"
+    if out.status == FileStatus.OK:
         try:
             after = StatSig.of(os.stat(task.abspath))
         except OSError:
             after = None
         if after != sig:
-            out = Outcome(task.path, "changed", "file changed while it was parsed", pid=os.getpid())
+            out = Outcome(task.path, FileStatus.CHANGED, "file changed while it was parsed", pid=os.getpid())
     out.ms = (time.monotonic() - started) * 1000
     return out
 
@@ -182,9 +188,8 @@ YOUNG_NS = 5_000_000_000
 """A repaired PDF modified less than this long ago is treated as still being written."""
 
 
-def _maybe_incomplete(warnings: list[str], mtime_ns: int) -> bool:
-    repaired = any(w.startswith("repaired") for w in warnings)
-    return repaired and time.time_ns() - mtime_ns < YOUNG_NS
+def _maybe_incomplete(document: Document, mtime_ns: int) -> bool:
+    return document.repaired and time.time_ns() - mtime_ns < YOUNG_NS
 
 
 def content_hash(data: bytes) -> str:
@@ -313,7 +318,7 @@ class WorkerPool:
                         )
                         yield Outcome(
                             task.path,
-                            "timeout",
+                            FileStatus.TIMEOUT,
                             f"parse took longer than timeout_s={self.settings.timeout_s:g}; worker killed",
                         )
                 busy_now = sum(1 for w in self._workers if w.task is not None)
@@ -397,6 +402,6 @@ def classify_exit(code: int | None) -> tuple[str, str]:
         except ValueError:
             name = f"signal {-code}"
         if -code == signal.SIGKILL:
-            return "resource_limit", "worker killed by SIGKILL (likely out of memory)"
-        return "crashed", f"worker crashed with {name}"
-    return "crashed", f"worker exited with status {code}"
+            return FileStatus.RESOURCE_LIMIT, "worker killed by SIGKILL (likely out of memory)"
+        return FileStatus.CRASHED, f"worker crashed with {name}"
+    return FileStatus.CRASHED, f"worker exited with status {code}"

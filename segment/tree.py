@@ -197,6 +197,8 @@ class Document:
     properties: dict[str, Any] = field(default_factory=dict)
     """The source's own declared properties (front matter, HTML meta, PDF document information):
     JSON scalars or lists of scalars, nothing of ours. Filled by the adapters."""
+    repaired: bool = False
+    """The file was damaged and its reader had to repair it, so its text may be partial."""
 
     @property
     def sections(self) -> list[Section]:

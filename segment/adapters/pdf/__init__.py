@@ -183,6 +183,7 @@ def _parse_open(
 
     document = Document(source=source, format="pdf", title=title)
     document.warnings.extend(warnings)
+    document.repaired = bool(doc.is_repaired)
     document.metadata.update(
         {
             "pages": doc.page_count,
