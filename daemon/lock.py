@@ -6,11 +6,11 @@ import fcntl
 import os
 from pathlib import Path
 
+from segment.daemon.errors import OutputBusy
+
 LOCK_NAME = ".lock"
 
-
-class OutputBusy(RuntimeError):
-    """Another docsegment process already writes this output folder."""
+__all__ = ["LOCK_NAME", "OutputBusy", "OutputLock"]
 
 
 class OutputLock:

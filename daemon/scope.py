@@ -17,11 +17,11 @@ import fnmatch
 import os
 import stat
 from dataclasses import dataclass
-from pathlib import Path
+from pathlib import Path, PurePath
 
 import pathspec
 
-from segment.adapters import is_supported
+from segment.adapters import supported_suffixes
 from segment.daemon.store import StatSig
 from segment.settings import Settings
 
@@ -101,7 +101,7 @@ class Scope:
     def file_wanted(self, rel: str) -> bool:
         """Whether a file path (by name only) belongs to the output."""
         name = rel.rsplit("/", 1)[-1]
-        if not rel or is_litter(name) or not is_supported(name) or self.in_out(rel):
+        if not rel or is_litter(name) or not is_read(name) or self.in_out(rel):
             return False
         parts = rel.split("/")
         for i in range(1, len(parts)):
@@ -171,6 +171,11 @@ class Scope:
                     if sig is not None:
                         found[rel] = sig
         return found
+
+
+def is_read(name: str) -> bool:
+    """True when some adapter reads a file of this name (by its suffix)."""
+    return PurePath(name).suffix.lower() in supported_suffixes()
 
 
 def display_name(rel: str) -> str:

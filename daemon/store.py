@@ -16,6 +16,7 @@ from collections.abc import Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 from segment.daemon.vocabulary import FileStatus
 
@@ -285,6 +286,18 @@ class StatusReport:
     counters: dict[str, int]
     noted: list[tuple[str, str]] = field(default_factory=list)
     """(source, warnings) of files chunked with a note (repaired PDF, replaced bytes...)."""
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON form `segment status --json` prints."""
+        return {
+            "files": self.files,
+            "chunks": self.chunks,
+            "failed": [{"source": s, "status": st, "reason": r} for s, st, r in self.failed],
+            "warnings": [{"source": s, "warnings": w} for s, w in self.noted],
+            "last_seq": self.last_seq,
+            "degraded": self.degraded or None,
+            "counters": self.counters,
+        }
 
 
 def read_status(out: Path) -> StatusReport | None:

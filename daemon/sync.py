@@ -24,6 +24,7 @@ from pathlib import Path
 
 from segment.daemon.chunkfiles import CHUNKS_DIR, chunk_name, read_ids
 from segment.daemon.durable import crashpoint, fsync_dir, remove_temps, walk_files, write_if_changed
+from segment.daemon.errors import SourceEmpty, SourceMissing
 from segment.daemon.feed import Feed, FeedEntry, compensation, diff_ids, repair_tail
 from segment.daemon.lock import OutputLock
 from segment.daemon.report import SyncReport
@@ -425,14 +426,6 @@ def closing_iter(gen: Generator[Outcome, None, None]) -> Iterator[Outcome]:
     """Iterate and always close the generator, so its cleanup runs before an error escapes."""
     with contextlib.closing(gen):
         yield from gen
-
-
-class SourceMissing(RuntimeError):
-    """SRC is gone or not a folder: nothing is deleted from OUT (RELIABILITY W9)."""
-
-
-class SourceEmpty(SourceMissing):
-    """SRC holds none of the files OUT has (an empty mount point): nothing is deleted (W9)."""
 
 
 @dataclass(slots=True)

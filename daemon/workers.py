@@ -25,6 +25,7 @@ from dataclasses import dataclass, field
 from multiprocessing.connection import Connection
 from typing import Any
 
+from segment.daemon.errors import WorkerStartError
 from segment.daemon.store import StatSig
 from segment.daemon.vocabulary import FileStatus
 from segment.errors import SegmentError
@@ -82,10 +83,6 @@ class Outcome:
     def failed(self) -> bool:
         """True for a failure status (not ok/changed/missing)."""
         return self.status not in (FileStatus.OK, FileStatus.CHANGED, FileStatus.MISSING)
-
-
-class WorkerStartError(RuntimeError):
-    """Worker processes die before they can take work (e.g. memory_mb too small to start)."""
 
 
 # -- the child side ---------------------------------------------------------------------------

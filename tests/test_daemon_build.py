@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pytest
 
+from segment.cli import run_build, run_status
 from segment.daemon import OutputBusy, Syncer, read_status, reconcile, replay
-from segment.daemon.commands import run_build, run_status
 from segment.settings import Settings
 from tests.daemon_helpers import (
     assert_feed_matches,

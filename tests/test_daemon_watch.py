@@ -290,9 +290,9 @@ def test_a_write_error_while_watching_is_retried_by_a_full_reconcile(
     import errno
 
     import segment.daemon.sync
-    import segment.daemon.watch
+    import segment.daemon.watcher
 
-    monkeypatch.setattr(segment.daemon.watch, "WRITE_RETRY_S", 0.2)
+    monkeypatch.setattr(segment.daemon.watcher, "WRITE_RETRY_S", 0.2)
     real, calls = segment.daemon.sync.write_if_changed, []
 
     def disk_full(path: Path, data: bytes) -> None:
@@ -313,9 +313,9 @@ def test_too_many_folders_for_inotify_fall_back_to_polling_and_say_so(
     docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     # RELIABILITY W2, portable variant: the watch budget check says "too many folders".
-    import segment.daemon.watch
+    import segment.daemon.watcher
 
-    monkeypatch.setattr(segment.daemon.watch, "watch_limit_exceeded", lambda src: True)
+    monkeypatch.setattr(segment.daemon.watcher, "watch_limit_exceeded", lambda src: True)
     out = tmp_path / "out"
     with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
         assert read_status(out).degraded == "watch_limit"  # type: ignore[union-attr]

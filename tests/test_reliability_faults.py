@@ -20,9 +20,9 @@ from watchdog.observers import Observer
 from watchdog.observers.polling import PollingObserver
 
 import segment.daemon.events as events
-import segment.daemon.watch as watch
+import segment.daemon.watcher as watch
+from segment.cli import run_build
 from segment.daemon import Watcher, read_status, reconcile
-from segment.daemon.commands import run_build
 from segment.settings import Settings
 from tests.daemon_helpers import (
     assert_feed_matches,

@@ -18,8 +18,8 @@ from pathlib import Path
 
 import pytest
 
+from segment.cli import run_build
 from segment.daemon import Watcher, read_status, reconcile
-from segment.daemon.commands import run_build
 from segment.settings import Settings
 from tests import hostile
 from tests.daemon_helpers import chunk_files, feed, tree_of, wait_for

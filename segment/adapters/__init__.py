@@ -54,3 +54,8 @@ def adapter_for(path: str | PurePath) -> Adapter:
 def is_supported(path: str | PurePath) -> bool:
     """True when some adapter handles this file name."""
     return PurePath(path).suffix.lower() in SUPPORTED_SUFFIXES
+
+
+def supported_suffixes() -> frozenset[str]:
+    """The file suffixes (lower case, with the dot) that some registered adapter reads."""
+    return SUPPORTED_SUFFIXES

@@ -29,6 +29,7 @@ from watchdog.observers import Observer
 from watchdog.observers.polling import PollingObserver
 
 from segment.daemon.batching import FULL, Batch, Change, batches
+from segment.daemon.errors import SourceEmpty, SourceMissing
 from segment.daemon.events import (
     OVERFLOW_LOGGER,
     EnqueueHandler,
@@ -38,8 +39,9 @@ from segment.daemon.events import (
     needs_polling,
     watch_limit_exceeded,
 )
+from segment.daemon.report import SyncReport
 from segment.daemon.scope import COOKIE_PREFIX
-from segment.daemon.sync import SourceEmpty, SourceMissing, Syncer, SyncReport
+from segment.daemon.sync import Syncer
 from segment.daemon.vocabulary import WatcherState
 from segment.settings import Settings
 
@@ -61,8 +63,11 @@ class WatchLoop:
         quiet_s: float = 0.2,
         rescan_s: float = RESCAN_S,
         clock: Callable[[], float] = time.monotonic,
+        reload: Callable[[], Settings] | None = None,
     ) -> None:
         self.syncer = syncer
+        self.reload = reload
+        """Gives the settings anew when segment.toml changes (None: logged, settings kept)."""
         self.quiet_s = quiet_s
         self.rescan_s = rescan_s
         self.clock = clock
