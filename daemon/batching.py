@@ -1,6 +1,6 @@
 """From file-system events to settled, coalesced batches of paths. No threads, no clock of its own.
 
-Events are only hints of where to look (RELIABILITY principle 1): a batch is a set of relative
+Events are only hints of where to look (reliability principle "events are only hints"): a batch is a set of relative
 file paths, folders to rescan, and maybe a request for a full reconcile. `batches()` takes its
 event source and clock as parameters, so tests script both and never sleep.
 """
@@ -35,7 +35,7 @@ class EventSource(Protocol):
 
 @dataclass(slots=True)
 class Batch:
-    """Work for one sync pass."""
+    """Work for one pass of the reconciler."""
 
     files: list[str] = field(default_factory=list)
     folders: list[str] = field(default_factory=list)

@@ -1,8 +1,8 @@
 """From watchdog's events to path hints, and the checks that pick the kind of observer.
 
 The observer's handler only enqueues raw events (an exception in a handler kills watchdog's
-dispatch thread, RELIABILITY W10); `changes_of` turns them into hints in the consumer thread,
-routing every event by both its source and its destination path (W3).
+dispatch thread, reliability scenario "watcher thread died"); `changes_of` turns them into hints in the consumer thread,
+routing every event by both its source and its destination path ("editor saves by rename").
 """
 
 from __future__ import annotations
@@ -39,7 +39,7 @@ class EnqueueHandler(FileSystemEventHandler):
 
 
 class OverflowAlarm(logging.Handler):
-    """Turns watchdog's 'queue overflowed' log line into a full-reconcile request (W1)."""
+    """Turns watchdog's 'queue overflowed' log line into a full-reconcile request ("inotify queue overflow")."""
 
     def __init__(self, events: queue.Queue[FileSystemEvent | Change]) -> None:
         super().__init__(logging.WARNING)
@@ -96,7 +96,7 @@ class QueueSource:
 
 
 def watch_limit_exceeded(src: Path) -> bool:
-    """True when SRC has more folders than inotify may watch (W2; watchdog is silent then)."""
+    """True when SRC has more folders than inotify may watch ("watch limit reached"; watchdog is silent then)."""
     try:
         limit = int(Path("/proc/sys/fs/inotify/max_user_watches").read_text().strip())
     except (OSError, ValueError):
@@ -139,6 +139,6 @@ def fs_type(path: Path) -> str:
 
 
 def needs_polling(path: Path) -> bool:
-    """True on file systems where inotify misses other hosts' writes (RELIABILITY W12)."""
+    """True on file systems where inotify misses other hosts' writes (reliability scenario "network file system")."""
     kind = fs_type(path)
     return kind in NETWORK_FS or kind.startswith("fuse.")

@@ -1,4 +1,4 @@
-"""One writer per output folder: an exclusive `flock` on OUT/.lock (RELIABILITY S5)."""
+"""One writer per output folder: an exclusive `flock` on OUT/.lock (reliability scenario "two writers")."""
 
 from __future__ import annotations
 

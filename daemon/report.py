@@ -6,8 +6,8 @@ from dataclasses import dataclass, field
 
 
 @dataclass(slots=True)
-class SyncReport:
-    """What one reconcile pass did."""
+class PassReport:
+    """What one pass of the reconciler did (counts, failures)."""
 
     scanned: int = 0
     """Files looked at (on disk or in the store)."""
@@ -40,7 +40,7 @@ class SyncReport:
             f"{failed}{skipped}; chunks +{self.added} -{self.removed}; {self.ms:.0f} ms"
         )
 
-    def merge(self, other: SyncReport) -> None:
+    def merge(self, other: PassReport) -> None:
         """Add another pass's counts to this one."""
         self.scanned += other.scanned
         self.parsed += other.parsed

@@ -1,6 +1,6 @@
 """Which files under SRC belong to the output: include/exclude, editor litter, OUT itself.
 
-Scan and watch share this one policy (RELIABILITY W13), so a watched tree and a fresh build
+Scan and watch share this one policy (reliability scenario "symlink loops and escapes"), so a watched tree and a fresh build
 always agree on the set of files:
 - patterns are gitignore-style (pathspec), `Settings.exclude` defaults included; an excluded
   folder hides everything below it, as in git;
@@ -26,7 +26,7 @@ from segment.daemon.store import StatSig
 from segment.settings import Settings
 
 COOKIE_PREFIX = ".docsegment-cookie-"
-"""Names of the barrier files `Watcher.sync()` creates at the root (never segmented)."""
+"""Names of the barrier files `Watcher.catch_up()` creates at the root (never segmented)."""
 
 EDITOR_LITTER: tuple[str, ...] = (
     "4913",  # vim's probe file (common practice: vim writes it to test the folder)
@@ -88,7 +88,9 @@ class Scope:
     def in_out(self, rel: str) -> bool:
         """True when `rel` is the output folder or lies inside it."""
         out_rel = self.rel(str(self.out))
-        return bool(out_rel) and (rel == out_rel or rel.startswith(out_rel + "/"))
+        if not out_rel:
+            return False
+        return rel == out_rel or rel.startswith(out_rel + "/")
 
     def dir_wanted(self, rel: str) -> bool:
         """Whether the scan descends into a folder."""

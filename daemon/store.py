@@ -1,7 +1,7 @@
 """SQLite state of an output folder: one row per source file, plus a few counters.
 
 The store is a cache that reconcile can always rebuild from the source tree and the chunk files
-(RELIABILITY principle 5), so a corrupt database is moved aside and started afresh. One process
+(reliability principle "the state can always be rebuilt"), so a corrupt database is moved aside and started afresh. One process
 writes it (the lock in `daemon.lock` guarantees that); readers open it read-only.
 """
 
@@ -23,7 +23,9 @@ from segment.daemon.vocabulary import FileStatus
 log = logging.getLogger(__name__)
 
 STATE_NAME = "state.sqlite3"
-SCHEMA_VERSION = "1"
+SCHEMA_VERSION = "2"
+"""Version 2 added `files.digests`, the `pending` table, and renamed the counter
+`overflow_recrawls` to `overflow_rescans`; a version 1 store is migrated in place."""
 
 RACY_WINDOW_NS = 2_000_000_000
 """A file whose mtime is not older than its record by this much is hashed instead of trusted.
@@ -47,9 +49,22 @@ CREATE TABLE IF NOT EXISTS files (
     status      TEXT NOT NULL,      -- 'ok' or the failure status of the last attempt
     error       TEXT,               -- reason of the last failure
     failures    INTEGER NOT NULL DEFAULT 0,  -- consecutive failures with this hash
-    recorded_ns INTEGER NOT NULL    -- wall clock when the stat above was taken
+    recorded_ns INTEGER NOT NULL,   -- wall clock when the stat above was taken
+    digests     TEXT NOT NULL DEFAULT '[]'  -- JSON list: digest of each chunk record, as ids
 );
 CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
+CREATE TABLE IF NOT EXISTS pending (
+    path     BLOB PRIMARY KEY,      -- a file held back as still changing, retried soon
+    source   TEXT NOT NULL,
+    reason   TEXT NOT NULL,
+    since_ns INTEGER NOT NULL       -- wall clock when it was first held back
+);
+"""
+
+_MIGRATE_FROM_1 = """
+ALTER TABLE files ADD COLUMN digests TEXT NOT NULL DEFAULT '[]';
+UPDATE meta SET key = 'overflow_rescans' WHERE key = 'overflow_recrawls';
+UPDATE meta SET value = '2' WHERE key = 'schema';
 """
 
 
@@ -85,6 +100,8 @@ class FileState:
     error: str | None = None
     failures: int = 0
     recorded_ns: int = 0
+    digests: list[str] = field(default_factory=list)
+    """A digest of each chunk record, in the order of `ids` (a changed locator changes it)."""
 
     def trusts(self, sig: StatSig, fingerprint: str) -> bool:
         """True when `sig` proves the file is unchanged without reading it.
@@ -186,7 +203,7 @@ class Store:
         """Insert or replace a row (inside a transaction)."""
         s = state.sig
         self.conn.execute(
-            "INSERT OR REPLACE INTO files VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+            "INSERT OR REPLACE INTO files VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
             (
                 _key(state.path),
                 state.source,
@@ -202,6 +219,7 @@ class Store:
                 state.error,
                 state.failures,
                 state.recorded_ns,
+                json.dumps(state.digests),
             ),
         )
 
@@ -242,6 +260,9 @@ def _connect(path: Path) -> sqlite3.Connection:
             raise StoreCorrupt(str(result[0] if result else "no answer"))
         conn.executescript(_SCHEMA)
         version = conn.execute("SELECT value FROM meta WHERE key='schema'").fetchone()
+        if version is not None and version[0] == "1":
+            conn.executescript("BEGIN IMMEDIATE;" + _MIGRATE_FROM_1 + "COMMIT;")
+            version = ("2",)
         if version is None:
             conn.execute("INSERT INTO meta VALUES ('schema', ?)", (SCHEMA_VERSION,))
         elif version[0] != SCHEMA_VERSION:
@@ -256,19 +277,24 @@ def _key(path: str) -> bytes:
     return os.fsencode(path)
 
 
-def _row(row: tuple[object, ...]) -> FileState:
-    (path, source, size, mtime, ctime, ino, dev, digest, fp, ids, status, error, failures, recorded) = row
+def _row(row: tuple[Any, ...]) -> FileState:
+    """A row of `files` (columns in schema order) as a FileState."""
+    (path, source, size, mtime, ctime, ino, dev, digest, fp, ids, status, error, failures, recorded) = row[
+        :14
+    ]
+    digests = row[14]
     return FileState(
-        path=os.fsdecode(bytes(path)),  # type: ignore[arg-type]
+        path=os.fsdecode(bytes(path)),
         source=str(source),
-        sig=StatSig(int(size), int(mtime), int(ctime), int(ino), int(dev)),  # type: ignore[call-overload]
+        sig=StatSig(int(size), int(mtime), int(ctime), int(ino), int(dev)),
         hash=str(digest),
         fingerprint=str(fp),
         ids=list(json.loads(str(ids))),
         status=str(status),
         error=None if error is None else str(error),
-        failures=int(failures),  # type: ignore[call-overload]
-        recorded_ns=int(recorded),  # type: ignore[call-overload]
+        failures=int(failures),
+        recorded_ns=int(recorded),
+        digests=list(json.loads(str(digests))),
     )
 
 
@@ -331,7 +357,7 @@ def read_status(out: Path) -> StatusReport | None:
     counters = {
         k: int(v)
         for k, v in meta.items()
-        if k in ("overflow_recrawls", "observer_restarts", "rebuilt_state", "full_reconciles")
+        if k in ("overflow_rescans", "observer_restarts", "rebuilt_state", "full_reconciles")
     }
     return StatusReport(
         files=int(files),

@@ -139,7 +139,7 @@ def test_idle_supervision_runs_between_batches_and_its_requests_are_batched() ->
     assert [b.full for b in got] == [True]
 
 
-# -- event routing (RELIABILITY W3, W4, W14) ------------------------------------------------
+# -- event routing (reliability scenario "editor saves by rename", "vim's save sequence", "output inside the source") ------------------------------------------------
 
 
 def scope(tmp_path: Path) -> Scope:
@@ -150,7 +150,7 @@ def scope(tmp_path: Path) -> Scope:
 def test_a_move_is_routed_by_both_paths_so_an_atomic_save_onto_a_page_is_seen(tmp_path: Path) -> None:
     s = scope(tmp_path)
     src = str(tmp_path / "src")
-    # W3: an editor's save is only `moved(src=.doc.md.tmp123, dest=doc.md)`.
+    # "editor saves by rename": an editor's save is only `moved(src=.doc.md.tmp123, dest=doc.md)`.
     assert changes_of(FileMovedEvent(f"{src}/.doc.md.tmp123", f"{src}/doc.md"), s) == f("doc.md")
     assert changes_of(FileMovedEvent(f"{src}/a.md", f"{src}/b.md"), s) == f("a.md") + f("b.md")
     # vim renames the page to its backup first: the page's path is looked at, the backup never.

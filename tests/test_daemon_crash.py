@@ -1,4 +1,4 @@
-"""Crash safety (RELIABILITY S1): a build killed anywhere converges on the next run.
+"""Crash safety (reliability scenario "killed mid-update"): a build killed anywhere converges on the next run.
 
 A build subprocess exits at named crash points (DOCSEGMENT_CRASH_AT=<label>) or is SIGKILLed at
 random moments; the next build must leave OUT byte-identical to a fresh full build of the same

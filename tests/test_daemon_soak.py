@@ -2,7 +2,7 @@
 
 A driver performs a few hundred random operations on a temp tree (creates, in-place edits,
 appends, editor-style atomic saves, vim-style saves, renames, folder moves in/out/within,
-deletes, touches, same-size rewrites) while a Watcher follows. After `sync()`:
+deletes, touches, same-size rewrites) while a Watcher follows. After `catch_up()`:
 - OUT/chunks is byte-identical to a fresh full build of the final tree (0 lost, 0 stale, 0 phantom);
 - replaying changes.jsonl from 0 gives exactly the current id set, and never upserts an id that
   is already present nor deletes one that is absent (0 duplicates).
@@ -147,8 +147,8 @@ def test_watched_output_converges_to_a_fresh_build_after_random_churn(seed: int,
             if rng.random() < 0.1:
                 time.sleep(rng.choice([0.005, 0.03, 0.08]))  # let some batches run mid-churn
             if i == OPS // 2:
-                watcher.sync(60)
-        watcher.sync(60)
+                watcher.catch_up(60)
+        watcher.catch_up(60)
         assert watcher.report.failed == []
     fresh = tmp_path / "fresh"
     reconcile(root, fresh, full=True)
