@@ -1,8 +1,10 @@
 """The change feed OUT/changes.jsonl (DESIGN.md section 5).
 
 One JSON object a line, appended only:
-    {"seq": n, "op": "upsert" | "delete", "id": ..., "source": ...}
+    {"seq": n, "op": "upsert" | "delete" | "relocate", "id": ..., "source": ...}
     {"seq": n, "op": "error", "source": ..., "error": ...}
+`relocate` names a chunk whose text (so id) is unchanged but whose record changed in another
+field (lines, seq, pages): an indexer refreshes the stored record without re-embedding it.
 `seq` starts at 1 and strictly increases across restarts. Entries are written and fsynced before
 the store commits, so after a crash the feed may repeat entries of the interrupted batch (with
 new numbers); replaying upserts and deletes as set operations is idempotent, so an indexer that
@@ -38,6 +40,28 @@ class FeedEntry:
         if self.op == FeedOp.ERROR:
             return {"seq": seq, "op": str(self.op), "source": self.source, "error": self.error}
         return {"seq": seq, "op": str(self.op), "id": self.id, "source": self.source}
+
+
+def relocated(
+    source: str, old_ids: list[str], old_digests: list[str], new_ids: list[str], new_digests: list[str]
+) -> list[FeedEntry]:
+    """Relocate entries for ids kept from `old` to `new` whose record digest changed.
+
+    When the old digests are unknown (a store written before they were kept), every kept id is
+    relocated: refreshing a record that did not move is harmless, missing one that did is not.
+    """
+    known = len(old_digests) == len(old_ids)
+    before: dict[str, set[str]] = {}
+    for i, chunk_id in enumerate(old_ids):
+        before.setdefault(chunk_id, set()).add(old_digests[i] if known else "")
+    after: dict[str, set[str]] = {}
+    for chunk_id, digest in zip(new_ids, new_digests, strict=True):
+        after.setdefault(chunk_id, set()).add(digest)
+    return [
+        FeedEntry(FeedOp.RELOCATE, source, id=chunk_id)
+        for chunk_id, digests in after.items()
+        if chunk_id in before and before[chunk_id] != digests
+    ]
 
 
 def diff_ids(source: str, old: list[str], new: list[str]) -> list[FeedEntry]:

@@ -13,7 +13,7 @@ from pathlib import Path
 from segment.daemon.chunkfiles import ChunkLayout, read_ids
 from segment.daemon.commit import PendingCommit
 from segment.daemon.durable import crashpoint, write_if_changed
-from segment.daemon.feed import FeedEntry, diff_ids
+from segment.daemon.feed import FeedEntry, diff_ids, relocated
 from segment.daemon.report import PassReport
 from segment.daemon.scope import Scope, display_name
 from segment.daemon.store import FileState, StatSig
@@ -76,10 +76,14 @@ class Recorder:
         if not announced:
             entries = [e for e in entries if e.op == FeedOp.DELETE]
             entries += [FeedEntry(FeedOp.UPSERT, source, id=i) for i in dict.fromkeys(outcome.ids)]
+        else:
+            assert row is not None
+            entries += relocated(source, row.ids, row.digests, outcome.ids, outcome.digests)
         pending.entries += entries
         report.parsed += 1
         report.added += sum(1 for e in entries if e.op == FeedOp.UPSERT)
         report.removed += sum(1 for e in entries if e.op == FeedOp.DELETE)
+        report.relocated += sum(1 for e in entries if e.op == FeedOp.RELOCATE)
         # Chunks kept, with a note: what the adapter could not keep or had to guess.
         for warning in outcome.warnings:
             log.warning("%s: %s", source, warning)
@@ -93,6 +97,7 @@ class Recorder:
                 outcome.ids,
                 recorded_ns=outcome.recorded_ns,
                 error="; ".join(outcome.warnings) or None,
+                digests=outcome.digests,
             )
         )
 
@@ -137,6 +142,7 @@ class Recorder:
                 error=reason,
                 failures=failures,
                 recorded_ns=outcome.recorded_ns or time.time_ns(),
+                digests=list(row.digests) if row is not None else [],
             )
         )
 

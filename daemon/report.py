@@ -21,6 +21,8 @@ class PassReport:
     """Chunk ids announced as upserts."""
     removed: int = 0
     """Chunk ids announced as deletes."""
+    relocated: int = 0
+    """Chunk ids announced as relocated (same text, record changed)."""
     skipped: list[str] = field(default_factory=list)
     """Sources that kept changing during their parse (left for the next pass)."""
     last_seq: int = 0
@@ -34,10 +36,11 @@ class PassReport:
         """The one log line for this pass."""
         failed = f", {len(self.failed)} failed" if self.failed else ""
         skipped = f", {len(self.skipped)} still changing" if self.skipped else ""
+        moved = f", {self.relocated} relocated" if self.relocated else ""
         skipped += f", {self.interrupted} left for the next run (stopped)" if self.interrupted else ""
         return (
             f"{what}: {self.scanned} files, re-segmented {self.parsed} files, deleted {self.deleted}"
-            f"{failed}{skipped}; chunks +{self.added} -{self.removed}; {self.ms:.0f} ms"
+            f"{failed}{skipped}; chunks +{self.added} -{self.removed}{moved}; {self.ms:.0f} ms"
         )
 
     def merge(self, other: PassReport) -> None:
@@ -49,6 +52,7 @@ class PassReport:
         self.failed += other.failed
         self.added += other.added
         self.removed += other.removed
+        self.relocated += other.relocated
         self.skipped += other.skipped
         self.last_seq = max(self.last_seq, other.last_seq)
         self.parse_pids |= other.parse_pids

@@ -47,6 +47,8 @@ class Outcome:
     data: bytes = b""
     """The chunk file's bytes (JSON Lines) when `ok`."""
     ids: list[str] = field(default_factory=list)
+    digests: list[str] = field(default_factory=list)
+    """`record_digest` of each chunk record, in the order of `ids`, when `ok`."""
     hash: str = ""
     sig: StatSig | None = None
     """Stat of the file before it was read (the state the chunks belong to)."""
@@ -99,8 +101,10 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
             reason = "PDF needed repair and was modified moments ago (a copy in progress?)"
             return Outcome(task.path, FileStatus.CHANGED, reason, pid=os.getpid())
         chunks = list(segment.chunk(document, settings))
-        out.data = b"".join((c.to_json() + "\n").encode("utf-8", "replace") for c in chunks)
+        lines = [(c.to_json() + "\n").encode("utf-8", "replace") for c in chunks]
+        out.data = b"".join(lines)
         out.ids = [c.id for c in chunks]
+        out.digests = [record_digest(line) for line in lines]
     except FileNotFoundError:
         out.status, out.reason = FileStatus.MISSING, "file vanished while it was read"
     except SegmentError as exc:
@@ -132,6 +136,11 @@ YOUNG_NS = 5_000_000_000
 
 def _maybe_incomplete(document: Document, mtime_ns: int) -> bool:
     return document.repaired and time.time_ns() - mtime_ns < YOUNG_NS
+
+
+def record_digest(line: bytes) -> str:
+    """Digest of one chunk record's JSON line (any changed field changes it)."""
+    return hashlib.blake2b(line, digest_size=8).hexdigest()
 
 
 def content_hash(data: bytes) -> str:

@@ -80,6 +80,8 @@ class FeedOp(StrEnum):
     """A chunk id disappeared: drop it from the index."""
     ERROR = "error"
     """A file failed; its last good chunks stay and the entry says why."""
+    RELOCATE = "relocate"
+    """Same text (same id), other fields changed (lines, seq, pages...): refresh, no re-embedding."""
 
 
 class WatcherState(StrEnum):

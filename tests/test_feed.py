@@ -88,3 +88,16 @@ def test_entries_written_past_the_last_commit_are_undone_at_restart(tmp_path: Pa
     ]
     feed.append(undo)
     assert replay(tmp_path) == {"old": "a.md"}  # the feed's view equals the store's again
+
+
+def test_relocate_names_kept_ids_whose_record_changed() -> None:
+    from segment.daemon.feed import relocated
+
+    old_ids, old_digests = ["a", "b", "c"], ["1", "2", "3"]
+    new_ids, new_digests = ["a", "b", "d"], ["1", "9", "4"]
+    entries = relocated("x.md", old_ids, old_digests, new_ids, new_digests)
+    assert [(e.op, e.id) for e in entries] == [(FeedOp.RELOCATE, "b")]  # c deleted, d new: not relocated
+    # Digests unknown (a store from before they were kept): every kept id is refreshed.
+    assert [e.id for e in relocated("x.md", old_ids, [], new_ids, new_digests)] == ["a", "b"]
+    entry = FeedEntry(FeedOp.RELOCATE, "x.md", id="b").to_dict(7)
+    assert entry == {"seq": 7, "op": "relocate", "id": "b", "source": "x.md"}
