@@ -43,11 +43,23 @@ class PendingCommit:
     """Folders that lost a chunk file (pruned when empty)."""
     writes: list[Future[None]] = field(default_factory=list)
     """Chunk files being written by the writer threads."""
+    held: dict[str, tuple[str, str]] = field(default_factory=dict)
+    """Files held back as still changing: relative path -> (source, reason)."""
+    released: set[str] = field(default_factory=set)
+    """Files no longer held back."""
     started: float = field(default_factory=time.monotonic)
 
     def empty(self) -> bool:
         """True when there is nothing to commit."""
-        return not (self.entries or self.rows or self.gone or self.writes or self.emptied)
+        return not (
+            self.entries
+            or self.rows
+            or self.gone
+            or self.writes
+            or self.emptied
+            or self.held
+            or self.released
+        )
 
     def due(self) -> bool:
         """True when the group is large or old enough to commit now."""
@@ -82,6 +94,10 @@ class Committer:
                     self.store.put(row)
                 for rel in pending.gone:
                     self.store.delete(rel)
+                for rel in pending.released:
+                    self.store.release(rel)
+                for rel, (source, reason) in pending.held.items():
+                    self.store.hold(rel, source, reason)
                 self.store.set_meta("last_seq", last)
         except (OSError, sqlite3.Error) as exc:
             # Feed lines may be on disk without their commit: undo them now, as a restart would.

@@ -76,6 +76,8 @@ class Reconciler:
             self.feed = Feed(self.out, self.store.last_seq)
             self.committer = Committer(self.layout, self.store, self.feed)
             self.committer.recover_feed()
+            self.held: dict[str, str] = self.store.held()
+            """Files held back as still changing (relative path -> reason), retried soon."""
             self.scope = Scope(self.src, self.out, settings)
             self.executor: Executor = executor(settings, jobs)
             # fsync waits on the disk: a few threads keep workers fed and let ext4 batch commits.
@@ -116,7 +118,8 @@ class Reconciler:
                 "(an unmounted share?); nothing was deleted. A full build (--full) accepts "
                 "that they are gone"
             )
-        report = self._pass(on_disk, rows, force=full, progress=progress)
+        gone_held = set(self.held) - set(on_disk)
+        report = self._pass(on_disk, rows, force=full, progress=progress, gone_held=gone_held)
         report.deleted += self._remove_orphans(set(self.store.all()) | set(on_disk))
         with self.store.transaction():
             self.store.bump("full_reconciles")
@@ -127,6 +130,7 @@ class Reconciler:
     def reconcile_paths(self, paths: Iterable[str], folders: Iterable[str] = ()) -> PassReport:
         """Bring the given relative paths (files, and folders with everything below) up to date."""
         self._check_root()
+        paths = list(paths)
         on_disk: dict[str, StatSig] = {}
         rows: dict[str, FileState] = {}
         for rel in paths:
@@ -136,10 +140,13 @@ class Reconciler:
             row = self.store.get(rel)
             if row is not None:
                 rows[rel] = row
+        gone_held = {rel for rel in self.held if rel not in on_disk and rel in set(paths)}
         for folder in folders:
             on_disk.update(self.scope.scan(folder))
             rows.update(self.store.under(folder))
-        return self._pass(on_disk, rows, force=False, progress=None)
+            inside = {rel for rel in self.held if rel == folder or rel.startswith(folder + "/") or not folder}
+            gone_held |= inside - set(on_disk)
+        return self._pass(on_disk, rows, force=False, progress=None, gone_held=gone_held)
 
     def _check_root(self) -> None:
         if not self.src.is_dir():
@@ -156,12 +163,18 @@ class Reconciler:
         *,
         force: bool,
         progress: Progress | None,
+        gone_held: set[str] | None = None,
     ) -> PassReport:
         started = time.monotonic()
         report = PassReport(scanned=len(set(on_disk) | set(rows)))
         self._pending = PendingCommit()
+        candidates = set(on_disk) | set(rows)
+        # A held file gets its verdict in this pass (or is held again), and one gone is forgotten.
+        for rel in (candidates | (gone_held or set())) & self.held.keys():
+            self._pending.released.add(rel)
+            del self.held[rel]
         to_parse: dict[str, StatSig] = {}
-        for rel in sorted(set(on_disk) | set(rows)):
+        for rel in sorted(candidates):
             sig, row = on_disk.get(rel), rows.get(rel)
             if sig is None:
                 assert row is not None
@@ -221,7 +234,9 @@ class Reconciler:
                     if attempts[rel] < RETRIES_ON_CHANGE:
                         again[rel] = to_parse[rel]
                         continue
-                    report.skipped.append(display_name(rel))
+                    self._hold(rel, f"kept changing while it was read ({attempts[rel]} tries)", report)
+                elif outcome.status == FileStatus.STILL_WRITING:
+                    self._hold(rel, outcome.reason or "still being written", report)
                 elif outcome.status == FileStatus.MISSING:
                     sig = self.scope.stat_file(rel)
                     if sig is not None and attempts.get(rel, 0) < RETRIES_ON_CHANGE:
@@ -240,6 +255,15 @@ class Reconciler:
             to_parse = {} if self.stop_requested() else again
         if done < total:
             report.interrupted = total - done
+
+    def _hold(self, rel: str, reason: str, report: PassReport) -> None:
+        """Leave a file for a retry soon; `segment status` lists it as pending with the reason."""
+        source = display_name(rel)
+        self._pending.held[rel] = (source, reason)
+        self._pending.released.discard(rel)
+        self.held[rel] = reason
+        report.held.append((source, reason))
+        log.info("%s: held back: %s", source, reason)
 
     def _remove_orphans(self, known: set[str]) -> int:
         """Delete chunk files no store row accounts for (left by a crash or a lost store)."""

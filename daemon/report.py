@@ -23,8 +23,8 @@ class PassReport:
     """Chunk ids announced as deletes."""
     relocated: int = 0
     """Chunk ids announced as relocated (same text, record changed)."""
-    skipped: list[str] = field(default_factory=list)
-    """Sources that kept changing during their parse (left for the next pass)."""
+    held: list[tuple[str, str]] = field(default_factory=list)
+    """(source, reason) of files held back as still changing (pending: retried soon)."""
     last_seq: int = 0
     ms: float = 0.0
     parse_pids: set[int] = field(default_factory=set)
@@ -35,7 +35,7 @@ class PassReport:
     def line(self, what: str) -> str:
         """The one log line for this pass."""
         failed = f", {len(self.failed)} failed" if self.failed else ""
-        skipped = f", {len(self.skipped)} still changing" if self.skipped else ""
+        skipped = f", {len(self.held)} still changing" if self.held else ""
         moved = f", {self.relocated} relocated" if self.relocated else ""
         skipped += f", {self.interrupted} left for the next run (stopped)" if self.interrupted else ""
         return (
@@ -53,6 +53,6 @@ class PassReport:
         self.added += other.added
         self.removed += other.removed
         self.relocated += other.relocated
-        self.skipped += other.skipped
+        self.held += other.held
         self.last_seq = max(self.last_seq, other.last_seq)
         self.parse_pids |= other.parse_pids

@@ -227,6 +227,24 @@ class Store:
         """Forget a file (inside a transaction)."""
         self.conn.execute("DELETE FROM files WHERE path = ?", (_key(path),))
 
+    # -- files held back as still changing -------------------------------------------------
+
+    def hold(self, path: str, source: str, reason: str) -> None:
+        """Record a file as pending (inside a transaction); keeps the time it was first held."""
+        self.conn.execute(
+            "INSERT INTO pending VALUES (?, ?, ?, ?) ON CONFLICT(path) DO UPDATE SET reason = excluded.reason",
+            (_key(path), source, reason, time.time_ns()),
+        )
+
+    def release(self, path: str) -> None:
+        """Forget a pending file (inside a transaction)."""
+        self.conn.execute("DELETE FROM pending WHERE path = ?", (_key(path),))
+
+    def held(self) -> dict[str, str]:
+        """Pending files: relative path -> reason."""
+        rows = self.conn.execute("SELECT path, reason FROM pending").fetchall()
+        return {os.fsdecode(bytes(path)): str(reason) for path, reason in rows}
+
     # -- meta ------------------------------------------------------------------------------
 
     def meta(self, key: str, default: str = "") -> str:
@@ -312,6 +330,8 @@ class StatusReport:
     counters: dict[str, int]
     noted: list[tuple[str, str]] = field(default_factory=list)
     """(source, warnings) of files chunked with a note (repaired PDF, replaced bytes...)."""
+    pending: list[tuple[str, str, float]] = field(default_factory=list)
+    """(source, reason, seconds since first held) of files held back as still changing."""
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON form `segment status --json` prints."""
@@ -323,6 +343,7 @@ class StatusReport:
             "last_seq": self.last_seq,
             "degraded": self.degraded or None,
             "counters": self.counters,
+            "pending": [{"source": s, "reason": r, "since": round(t, 1)} for s, r, t in self.pending],
         }
 
 
@@ -350,6 +371,13 @@ def read_status(out: Path) -> StatusReport | None:
             )
         ]
         meta = dict(conn.execute("SELECT key, value FROM meta").fetchall())
+        now = time.time_ns()
+        pending = [
+            (str(src), str(reason), max(0, now - int(since)) / 1e9)
+            for src, reason, since in conn.execute(
+                "SELECT source, reason, since_ns FROM pending ORDER BY path"
+            )
+        ]
     except sqlite3.DatabaseError:
         return None
     finally:
@@ -367,4 +395,5 @@ def read_status(out: Path) -> StatusReport | None:
         degraded=str(meta.get("degraded", "")),
         counters=counters,
         noted=noted,
+        pending=pending,
     )

@@ -62,7 +62,7 @@ class Outcome:
     @property
     def failed(self) -> bool:
         """True for a failure status (not ok/changed/missing)."""
-        return self.status not in (FileStatus.OK, FileStatus.CHANGED, FileStatus.MISSING)
+        return FileStatus(self.status).failed
 
 
 def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
@@ -99,7 +99,7 @@ def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
             # reliability scenario "file still being written / bad or truncated PDF": MuPDF "repairs" a PDF cut mid-copy into partial text. While
             # the file is young, wait for the writer to finish rather than publish a part.
             reason = "PDF needed repair and was modified moments ago (a copy in progress?)"
-            return Outcome(task.path, FileStatus.CHANGED, reason, pid=os.getpid())
+            return Outcome(task.path, FileStatus.STILL_WRITING, reason, pid=os.getpid())
         chunks = list(segment.chunk(document, settings))
         lines = [(c.to_json() + "\n").encode("utf-8", "replace") for c in chunks]
         out.data = b"".join(lines)

@@ -39,11 +39,13 @@ class FileStatus(StrEnum):
     """The file changed while it was read (a task outcome, retried; never stored)."""
     MISSING = "missing"
     """The file vanished before or while it was read (a task outcome; never stored)."""
+    STILL_WRITING = "still_writing"
+    """The file looks half-written (a young repaired PDF): held back, retried soon (never stored)."""
 
     @property
     def failed(self) -> bool:
         """True for a failure status (the file keeps its last good chunks)."""
-        return self not in (FileStatus.OK, FileStatus.CHANGED, FileStatus.MISSING)
+        return self not in (FileStatus.OK, FileStatus.CHANGED, FileStatus.MISSING, FileStatus.STILL_WRITING)
 
 
 TRANSIENT_STATUSES = frozenset(

@@ -42,13 +42,15 @@ from segment.daemon.events import (
 from segment.daemon.reconcile import Reconciler
 from segment.daemon.report import PassReport
 from segment.daemon.scope import COOKIE_PREFIX
-from segment.daemon.vocabulary import WatcherState
+from segment.daemon.vocabulary import ChangeKind, WatcherState
 from segment.settings import Settings
 
 log = logging.getLogger(__name__)
 
 RESCAN_S = 600.0
 """A full reconcile runs this often while watching, as a net under any missed event."""
+PENDING_RETRY_S = 2.0
+"""Files held back as still changing (a copy in progress) are looked at again this often."""
 WRITE_RETRY_S = 5.0
 """After a failed write (disk full, I/O error), the next full reconcile runs this much later."""
 
@@ -81,6 +83,7 @@ class WatchLoop:
         self._waiters: dict[str, threading.Event] = {}
         self._waiters_lock = threading.Lock()
         self._last_full = 0.0
+        self._last_held_retry = 0.0
 
     # -- lifecycle -------------------------------------------------------------------------
 
@@ -208,6 +211,9 @@ class WatchLoop:
             self.alarm.count = 0
         if self.clock() - self._last_full >= self.rescan_s:
             return [FULL]
+        if self.reconciler.held and self.clock() - self._last_held_retry >= PENDING_RETRY_S:
+            self._last_held_retry = self.clock()
+            return [Change(ChangeKind.FILE, rel) for rel in sorted(self.reconciler.held)]
         return ()
 
     def _restart_observer(self) -> None:

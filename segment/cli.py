@@ -265,6 +265,9 @@ def run_status(out: Path, *, as_json: bool = False, verbose: bool = False) -> in
     click.echo(f"warnings:  {len(report.noted)}")
     for source, warnings in report.noted:
         click.echo(f"  {source}: {warnings}")
+    click.echo(f"pending:   {len(report.pending)}")
+    for source, reason, since in report.pending:
+        click.echo(f"  {source}: {reason} (held {since:.0f} s)")
     return 0
 
 

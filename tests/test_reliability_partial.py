@@ -1,4 +1,4 @@
-"""Half-written files (reliability scenario "file still being written"; dashboard figure 7) and an emptied source root ("source root gone or empty").
+"""Half-written files (reliability scenario "file still being written") and an emptied source root ("source root gone or empty").
 
 "file still being written": a PDF arrives in 10 pieces through one open file, as a slow copy or download would write it.
 A PDF cut short often opens "fine" after MuPDF repairs it, with part of its text ("bad or truncated PDF"), so a
@@ -90,6 +90,26 @@ def test_a_copy_slower_than_the_quiet_period_never_emits_a_partial_version(tmp_p
     seen, final = run_copy(tmp_path, quiet_ms=50, pause_s=0.3)
     assert seen and seen[-1] == final
     assert all(version == final for version in seen), f"{len(seen)} versions seen, partial ones emitted"
+
+
+@pytest.mark.timeout(120)
+def test_a_half_written_pdf_is_pending_in_status_and_retried_within_seconds(tmp_path: Path) -> None:
+    # A copy that stopped part way: MuPDF repairs the cut PDF, so it parses, but while it is
+    # young the watcher holds it back. It is listed as pending with the reason, and retried by
+    # itself within seconds once it stops changing (no further event, no ten-minute rescan).
+    src, out = tmp_path / "docs", tmp_path / "out"
+    tree_of(2, src)
+    data = hostile.good_pdf()
+    with Watcher(src, out, Settings(), quiet_ms=50) as w:
+        (src / "incoming.pdf").write_bytes(data[: len(data) * 7 // 10])
+        w.catch_up(60)
+        status = read_status(out)
+        assert status is not None
+        assert [(s, "copy in progress" in r) for s, r, _ in status.pending] == [("incoming.pdf", True)]
+        assert "incoming.pdf.jsonl" not in chunk_files(out)
+        assert ("incoming.pdf", status.pending[0][1]) in w.report.held
+        wait_for(lambda: "incoming.pdf.jsonl" in chunk_files(out), timeout=60)
+        wait_for(lambda: read_status(out).pending == [], timeout=10)  # type: ignore[union-attr]
 
 
 @pytest.mark.timeout(60)
