@@ -11,6 +11,7 @@ For a set of candidate paths (the whole tree, a folder, or the paths of a watch 
 from __future__ import annotations
 
 import contextlib
+import json
 import logging
 import os
 import time
@@ -121,7 +122,9 @@ class Reconciler:
         gone_held = set(self.held) - set(on_disk)
         report = self._pass(on_disk, rows, force=full, progress=progress, gone_held=gone_held)
         report.deleted += self._remove_orphans(set(self.store.all()) | set(on_disk))
+        report.not_read = {suffix: len(paths) for suffix, paths in self.scope.unread.items()}
         with self.store.transaction():
+            self.store.set_meta("not_read", json.dumps(self.scope.unread, sort_keys=True))
             self.store.bump("full_reconciles")
             self.store.set_meta("fingerprint", self.fingerprint)
             self.store.set_meta("src", str(self.src))

@@ -29,6 +29,8 @@ class PassReport:
     ms: float = 0.0
     parse_pids: set[int] = field(default_factory=set)
     """Processes that parsed files (never the daemon's own pid)."""
+    not_read: dict[str, int] = field(default_factory=dict)
+    """Files under SRC that no adapter reads, counted by suffix (full passes only)."""
     interrupted: int = 0
     """Files left for the next pass because a stop was requested."""
 
@@ -37,10 +39,12 @@ class PassReport:
         failed = f", {len(self.failed)} failed" if self.failed else ""
         skipped = f", {len(self.held)} still changing" if self.held else ""
         moved = f", {self.relocated} relocated" if self.relocated else ""
+        counts = ", ".join(f"{n} {suffix}" for suffix, n in sorted(self.not_read.items()))
+        unread = f"; not read: {counts}" if counts else ""
         skipped += f", {self.interrupted} left for the next run (stopped)" if self.interrupted else ""
         return (
             f"{what}: {self.scanned} files, re-segmented {self.parsed} files, deleted {self.deleted}"
-            f"{failed}{skipped}; chunks +{self.added} -{self.removed}{moved}; {self.ms:.0f} ms"
+            f"{failed}{skipped}; chunks +{self.added} -{self.removed}{moved}; {self.ms:.0f} ms{unread}"
         )
 
     def merge(self, other: PassReport) -> None:

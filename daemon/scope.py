@@ -23,7 +23,7 @@ import pathspec
 
 from segment.adapters import supported_suffixes
 from segment.daemon.store import StatSig
-from segment.settings import Settings
+from segment.settings import CONFIG_NAME, Settings
 
 COOKIE_PREFIX = ".docsegment-cookie-"
 """Names of the barrier files `Watcher.catch_up()` creates at the root (never segmented)."""
@@ -67,6 +67,8 @@ class Scope:
         self.exclude = pathspec.GitIgnoreSpec.from_lines(settings.exclude)
         self.include = pathspec.GitIgnoreSpec.from_lines(settings.include) if settings.include else None
         self._out_id = _dir_id(self.out)
+        self.unread: dict[str, list[str]] = {}
+        """Files the last `scan` skipped because no adapter reads them: suffix -> paths."""
 
     # -- names -----------------------------------------------------------------------------
 
@@ -103,7 +105,13 @@ class Scope:
     def file_wanted(self, rel: str) -> bool:
         """Whether a file path (by name only) belongs to the output."""
         name = rel.rsplit("/", 1)[-1]
-        if not rel or is_litter(name) or not is_read(name) or self.in_out(rel):
+        return is_read(name) and self._selected(rel)
+
+    def _selected(self, rel: str) -> bool:
+        """The user's and our own selection, whatever the suffix: not litter, not excluded,
+        included, not inside OUT."""
+        name = rel.rsplit("/", 1)[-1]
+        if not rel or is_litter(name) or self.in_out(rel):
             return False
         parts = rel.split("/")
         for i in range(1, len(parts)):
@@ -112,6 +120,14 @@ class Scope:
         if self.exclude.match_file(rel):
             return False
         return self.include is None or self.include.match_file(rel)
+
+    def not_read(self, rel: str) -> bool:
+        """True for a file the user's selection takes but no adapter reads (counted, skipped).
+
+        The settings file at the root is ours, not a skipped document.
+        """
+        name = rel.rsplit("/", 1)[-1]
+        return rel != CONFIG_NAME and not is_read(name) and self._selected(rel)
 
     # -- disk ------------------------------------------------------------------------------
 
@@ -136,6 +152,7 @@ class Scope:
     def scan(self, prefix: str = "") -> dict[str, StatSig]:
         """Every wanted file at or below `prefix` (a file or folder), walked iteratively."""
         found: dict[str, StatSig] = {}
+        self.unread = {}
         if prefix:
             parts = prefix.split("/")
             if not all(self.dir_wanted("/".join(parts[:i])) for i in range(1, len(parts))):
@@ -172,7 +189,14 @@ class Scope:
                     sig = self._stat_regular(Path(entry.path))
                     if sig is not None:
                         found[rel] = sig
+                elif self.not_read(rel) and self._stat_regular(Path(entry.path)) is not None:
+                    self.unread.setdefault(suffix_of(entry.name), []).append(rel)
         return found
+
+
+def suffix_of(name: str) -> str:
+    """The lower-case suffix of a file name, "(none)" when it has none."""
+    return PurePath(name).suffix.lower() or "(none)"
 
 
 def is_read(name: str) -> bool:

@@ -332,6 +332,8 @@ class StatusReport:
     """(source, warnings) of files chunked with a note (repaired PDF, replaced bytes...)."""
     pending: list[tuple[str, str, float]] = field(default_factory=list)
     """(source, reason, seconds since first held) of files held back as still changing."""
+    not_read: dict[str, list[str]] = field(default_factory=dict)
+    """Files under SRC that no adapter reads, by suffix (as of the last full pass)."""
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON form `segment status --json` prints."""
@@ -344,6 +346,7 @@ class StatusReport:
             "degraded": self.degraded or None,
             "counters": self.counters,
             "pending": [{"source": s, "reason": r, "since": round(t, 1)} for s, r, t in self.pending],
+            "not_read": self.not_read,
         }
 
 
@@ -396,4 +399,20 @@ def read_status(out: Path) -> StatusReport | None:
         counters=counters,
         noted=noted,
         pending=pending,
+        not_read=_not_read(meta.get("not_read", "")),
     )
+
+
+def _not_read(value: str) -> dict[str, list[str]]:
+    try:
+        data = json.loads(value) if value else {}
+    except ValueError:
+        return {}
+    if not isinstance(data, dict):
+        return {}
+    return {str(k): sorted(_display(p) for p in v) for k, v in data.items() if isinstance(v, list)}
+
+
+def _display(rel: object) -> str:
+    """A stored path as valid Unicode (undecodable bytes as U+FFFD)."""
+    return str(rel).encode("utf-8", "surrogateescape").decode("utf-8", "replace")

@@ -144,9 +144,10 @@ def watch_command(src: Path, out: Path, jobs: int, quiet_ms: int, **kwargs: Any)
 @cli.command("status")
 @click.argument("out", type=click.Path(file_okay=False, path_type=Path))
 @click.option("--json", "as_json", is_flag=True, help="Machine-readable output.")
-def status_command(out: Path, as_json: bool) -> None:
-    """Files, chunks, failed files and the last feed sequence number of OUT."""
-    raise SystemExit(run_status(out, as_json=as_json))
+@click.option("-v", "--verbose", is_flag=True, help="List the files no adapter reads.")
+def status_command(out: Path, as_json: bool, verbose: bool) -> None:
+    """Files, chunks, failed, pending and unread files, and the last feed sequence number of OUT."""
+    raise SystemExit(run_status(out, as_json=as_json, verbose=verbose))
 
 
 # -- the bodies of build, watch and status: the library does the work, this layer talks --------
@@ -268,6 +269,12 @@ def run_status(out: Path, *, as_json: bool = False, verbose: bool = False) -> in
     click.echo(f"pending:   {len(report.pending)}")
     for source, reason, since in report.pending:
         click.echo(f"  {source}: {reason} (held {since:.0f} s)")
+    counts = ", ".join(f"{suffix} {len(paths)}" for suffix, paths in sorted(report.not_read.items()))
+    total = sum(len(paths) for paths in report.not_read.values())
+    click.echo(f"not read:  {total}" + (f" ({counts})" if counts else ""))
+    if verbose:
+        for path in sorted(p for paths in report.not_read.values() for p in paths):
+            click.echo(f"  {path}")
     return 0
 
 

@@ -332,3 +332,30 @@ def test_a_file_chunked_with_a_note_shows_it_in_status(tmp_path: Path) -> None:
     status = read_status(out)
     assert status is not None and status.failed == []
     assert status.noted == [("legacy.md", "not valid UTF-8: decoded as Windows-1252")]
+
+
+def test_files_no_adapter_reads_are_counted_by_suffix(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # A folder of reStructuredText beside the Markdown: nothing is chunked from it, and the build
+    # summary and `segment status` say so, so nobody wonders why it produced nothing.
+    src, out = tmp_path / "docs", tmp_path / "out"
+    write(src / "guide.md", page("Battery care"))
+    write(src / "api" / "queue.rst", "Queue\n=====\n\nA first-in, first-out queue.\n")
+    write(src / "api" / "stack.rst", "Stack\n=====\n\nLast in, first out.\n")
+    write(src / "notes.txt", "plain text\n")
+    write(src / "segment.toml", "max_tokens = 256\n")  # our own settings file: not counted
+    write(src / "guide.md~", "editor backup\n")  # editor litter: not counted
+    report = reconcile(src, out)
+    assert report.not_read == {".rst": 2, ".txt": 1}
+    assert report.line("build").endswith("; not read: 2 .rst, 1 .txt")
+    capsys.readouterr()
+    assert run_status(out) == 0
+    text = capsys.readouterr().out
+    assert "not read:  3 (.rst 2, .txt 1)" in text and "api/queue.rst" not in text
+    assert run_status(out, verbose=True) == 0
+    listed = capsys.readouterr().out
+    assert "  api/queue.rst\n  api/stack.rst\n  notes.txt\n" in listed
+    assert run_status(out, as_json=True) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["not_read"] == {".rst": ["api/queue.rst", "api/stack.rst"], ".txt": ["notes.txt"]}
