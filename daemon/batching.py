@@ -41,9 +41,11 @@ class Batch:
     folders: list[str] = field(default_factory=list)
     full: bool = False
     cookies: list[str] = field(default_factory=list)
+    config: bool = False
+    """The settings file changed: read it before the paths are looked at."""
 
     def __bool__(self) -> bool:
-        return bool(self.files or self.folders or self.full or self.cookies)
+        return bool(self.files or self.folders or self.full or self.cookies or self.config)
 
 
 MAX_PATHS = 5000
@@ -65,12 +67,13 @@ class Coalescer:
         self._folders: dict[str, None] = {}
         self._cookies: dict[str, None] = {}
         self._full = False
+        self._config = False
         self._first = 0.0
         self._last = 0.0
 
     def empty(self) -> bool:
         """True when nothing is pending."""
-        return not (self._files or self._folders or self._cookies or self._full)
+        return not (self._files or self._folders or self._cookies or self._full or self._config)
 
     def add(self, change: Change, now: float) -> None:
         """Record one change seen at `now`."""
@@ -85,6 +88,8 @@ class Coalescer:
             self._cookies[change.path] = None
         elif change.kind == ChangeKind.FULL:
             self._full = True
+        elif change.kind == ChangeKind.CONFIG:
+            self._config = True
         if self._full or len(self._files) + len(self._folders) > MAX_PATHS:
             self._full = True
             self._files.clear()
@@ -103,8 +108,8 @@ class Coalescer:
         files = [f for f in self._files if not any(f.startswith(d + "/") for d in folders if d)]
         if "" in self._folders:
             files, folders = [], [""]
-        batch = Batch(files, folders, self._full, list(self._cookies))
-        self._files, self._folders, self._cookies, self._full = {}, {}, {}, False
+        batch = Batch(files, folders, self._full, list(self._cookies), self._config)
+        self._files, self._folders, self._cookies, self._full, self._config = {}, {}, {}, False, False
         return batch
 
 

@@ -18,6 +18,7 @@ from watchdog.events import FileSystemEvent, FileSystemEventHandler
 from segment.daemon.batching import FULL, Change
 from segment.daemon.scope import COOKIE_PREFIX, Scope, is_litter
 from segment.daemon.vocabulary import ChangeKind
+from segment.settings import CONFIG_NAME
 
 log = logging.getLogger(__name__)
 
@@ -66,6 +67,8 @@ def changes_of(event: FileSystemEvent, scope: Scope) -> list[Change]:
         name = rel.rsplit("/", 1)[-1]
         if "/" not in rel and name.startswith(COOKIE_PREFIX):
             out.append(Change(ChangeKind.COOKIE, name[len(COOKIE_PREFIX) :]))
+        elif rel == CONFIG_NAME:
+            out.append(Change(ChangeKind.CONFIG, rel))
         elif event.is_directory:
             if event.event_type != "modified" and event.event_type != "attrib":
                 out.append(Change(ChangeKind.FOLDER, rel))

@@ -91,6 +91,23 @@ class Reconciler:
         self.stop_requested: Callable[[], bool] = lambda: False
         """Checked between files: once true, a pass commits what it has and returns early."""
 
+    def apply_settings(self, settings: Settings) -> bool:
+        """Use new settings from the next pass on; True when they differ (a full pass is due).
+
+        The fingerprint moves when a setting that shapes chunks changed, so every file is
+        re-segmented; include/exclude apply to the next scan; the executor is restarted, since
+        workers hold the settings they were started with.
+        """
+        if settings == self.settings:
+            return False
+        self.settings = settings
+        self.fingerprint = settings.fingerprint()
+        self.scope = Scope(self.src, self.out, settings)
+        self.recorder.scope, self.recorder.fingerprint = self.scope, self.fingerprint
+        self.executor.close()
+        self.executor = self.make_executor(settings, self.jobs)
+        return True
+
     def close(self) -> None:
         """Stop the executor, close the store, release the lock."""
         try:

@@ -71,6 +71,8 @@ class ChangeKind(StrEnum):
     """Rescan the whole source tree."""
     COOKIE = "cookie"
     """A barrier file of `Watcher.catch_up()` appeared; its path holds the token."""
+    CONFIG = "config"
+    """The settings file `segment.toml` at the root changed: read it again."""
 
 
 class FeedOp(StrEnum):

@@ -21,6 +21,7 @@ import threading
 import time
 import uuid
 from collections.abc import Callable, Sequence
+from dataclasses import fields
 from pathlib import Path
 from typing import Any
 
@@ -43,7 +44,7 @@ from segment.daemon.reconcile import Reconciler
 from segment.daemon.report import PassReport
 from segment.daemon.scope import COOKIE_PREFIX
 from segment.daemon.vocabulary import ChangeKind, WatcherState
-from segment.settings import Settings
+from segment.settings import CONFIG_NAME, Settings
 
 log = logging.getLogger(__name__)
 
@@ -84,6 +85,8 @@ class WatchLoop:
         self._waiters_lock = threading.Lock()
         self._last_full = 0.0
         self._last_held_retry = 0.0
+        self._source: QueueSource | None = None
+        self._config_sig = _config_sig(self.reconciler.src)
 
     # -- lifecycle -------------------------------------------------------------------------
 
@@ -139,7 +142,7 @@ class WatchLoop:
 
     def run(self, stop: Callable[[], bool]) -> None:
         """Process batches until `stop()` is true; the batch in progress is always finished."""
-        source = QueueSource(self.events, self.reconciler.scope)
+        source = self._source = QueueSource(self.events, self.reconciler.scope)
         max_wait = max(10 * self.quiet_s, 1.0)
         for batch in batches(
             source, self.clock, quiet_s=self.quiet_s, max_wait_s=max_wait, stop=stop, idle=self._supervise
@@ -149,6 +152,8 @@ class WatchLoop:
     def process(self, batch: Batch) -> None:
         """Run one batch through the reconciler and release the barriers it carries."""
         try:
+            if (batch.config or batch.full) and self._settings_file_changed():
+                batch.full = self._reload_settings() or batch.full
             if batch.full:
                 self._full("full reconcile")
             elif batch.files or batch.folders:
@@ -175,6 +180,44 @@ class WatchLoop:
             if self.degraded in (WatcherState.WRITE_ERROR, WatcherState.ROOT_EMPTY) and batch.full:
                 self._set_degraded(WatcherState.HEALTHY)
         self._release(batch.cookies)
+
+    def _settings_file_changed(self) -> bool:
+        """True when SRC/segment.toml differs from when the settings were last read."""
+        sig = _config_sig(self.reconciler.src)
+        if sig == self._config_sig:
+            return False
+        self._config_sig = sig
+        return True
+
+    def _reload_settings(self) -> bool:
+        """Read the settings again after segment.toml changed; True when a full pass is due."""
+        if self.reload is None:
+            log.warning(
+                "%s changed, but this watcher was given its settings: restart it to apply the file",
+                CONFIG_NAME,
+            )
+            return False
+        try:
+            settings = self.reload()
+        except Exception as exc:  # a bad file or value: say so, keep going as before
+            log.error("%s: %s; keeping the previous settings", CONFIG_NAME, exc)
+            return False
+        old = self.reconciler.settings
+        changed = [f.name for f in fields(Settings) if getattr(settings, f.name) != getattr(old, f.name)]
+        if not self.reconciler.apply_settings(settings):
+            log.info("%s changed; no setting differs", CONFIG_NAME)
+            return False
+        if self._source is not None:
+            self._source.scope = self.reconciler.scope
+        log.warning(
+            "%s changed (%s); applying it: %s",
+            CONFIG_NAME,
+            ", ".join(changed),
+            "re-segmenting every file"
+            if settings.fingerprint() != old.fingerprint()
+            else "rescanning the tree",
+        )
+        return True
 
     def _full(self, what: str) -> PassReport:
         cookies = self._cookies_on_disk()
@@ -284,6 +327,15 @@ class WatchLoop:
             log.error("cannot record the degraded state %r: %s", value, exc)
 
 
+def _config_sig(src: Path) -> tuple[int, int, int] | None:
+    """(size, mtime_ns, inode) of SRC/segment.toml, or None when there is none."""
+    try:
+        st = os.stat(src / CONFIG_NAME)
+    except OSError:
+        return None
+    return (st.st_size, st.st_mtime_ns, st.st_ino)
+
+
 def _observer_alive(observer: Any) -> bool:
     """The dispatch thread and every emitter thread are running (either can die alone, "watcher thread died")."""
     return bool(observer.is_alive()) and all(e.is_alive() for e in getattr(observer, "emitters", ()))
@@ -306,8 +358,11 @@ class Watcher:
         jobs: int = 1,
         quiet_ms: int = 200,
         rescan_s: float = RESCAN_S,
+        reload: Callable[[], Settings] | None = None,
     ) -> None:
         self.src, self.out = Path(src), Path(out)
+        self.reload = reload
+        """Gives the settings anew when segment.toml changes (None: logged, settings kept)."""
         self.settings = settings or Settings()
         self.jobs = jobs
         self.quiet_s = quiet_ms / 1000
@@ -322,7 +377,9 @@ class Watcher:
         self.reconciler = Reconciler(self.src, self.out, self.settings, jobs=self.jobs, patient=True)
         self.reconciler.stop_requested = self._stop.is_set
         try:
-            self.loop = WatchLoop(self.reconciler, quiet_s=self.quiet_s, rescan_s=self.rescan_s)
+            self.loop = WatchLoop(
+                self.reconciler, quiet_s=self.quiet_s, rescan_s=self.rescan_s, reload=self.reload
+            )
             self.loop.start()
         except BaseException:
             if self.loop is not None:

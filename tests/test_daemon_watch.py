@@ -20,8 +20,17 @@ import pytest
 
 from segment.daemon import Watcher, read_status, reconcile
 from segment.daemon.events import EnqueueHandler
-from segment.settings import Settings
-from tests.daemon_helpers import assert_feed_matches, chunk_files, feed, page, tree_of, wait_for, write
+from segment.settings import Settings, load_settings
+from tests.daemon_helpers import (
+    assert_feed_matches,
+    chunk_files,
+    feed,
+    page,
+    sections_page,
+    tree_of,
+    wait_for,
+    write,
+)
 
 QUIET_MS = 50
 
@@ -355,3 +364,51 @@ def test_a_dead_emitter_thread_is_noticed_too(watcher: Watcher, docs: Path, tmp_
     watcher.catch_up(10)
     assert "unheard.md.jsonl" in chunk_files(tmp_path / "out")
     assert watcher.loop.observer_restarts == 1
+
+
+def test_an_edited_segment_toml_re_segments_what_it_affects(tmp_path: Path) -> None:
+    # The settings file changes while watching: chunks follow the new budget (as a fresh build
+    # with that file gives), and a newly excluded folder leaves the output.
+    src, out = tmp_path / "docs", tmp_path / "out"
+    write(src / "handbook.md", sections_page(12))
+    write(src / "drafts" / "idea.md", page("Geofences", "A draft about geofences."))
+    write(src / "segment.toml", "max_tokens = 512\n")
+    with Watcher(src, out, load_settings(src), quiet_ms=50, reload=lambda: load_settings(src)) as w:
+        before = chunk_files(out)["handbook.md.jsonl"]
+        write(src / "segment.toml", 'max_tokens = 64\nmin_tokens = 0\nexclude = ["drafts/"]\n')
+        w.catch_up(60)
+        assert chunk_files(out)["handbook.md.jsonl"] != before
+    fresh = tmp_path / "fresh"
+    reconcile(src, fresh, load_settings(src))
+    assert chunk_files(out) == chunk_files(fresh)
+    assert "drafts/idea.md.jsonl" not in chunk_files(out)
+    assert_feed_matches(out)
+
+
+def test_an_edited_segment_toml_without_a_way_to_reload_is_logged(
+    tmp_path: Path, caplog: pytest.LogCaptureFixture
+) -> None:
+    src, out = tmp_path / "docs", tmp_path / "out"
+    write(src / "guide.md", page("Battery care"))
+    with Watcher(src, out, Settings(), quiet_ms=50) as w:
+        caplog.clear()
+        with caplog.at_level(logging.WARNING, logger="segment.daemon"):
+            write(src / "segment.toml", "max_tokens = 64\n")
+            w.catch_up(60)
+    assert any(
+        "segment.toml changed" in r.getMessage() and "restart" in r.getMessage() for r in caplog.records
+    )
+
+
+def test_a_bad_segment_toml_keeps_the_previous_settings(
+    tmp_path: Path, caplog: pytest.LogCaptureFixture
+) -> None:
+    src, out = tmp_path / "docs", tmp_path / "out"
+    write(src / "guide.md", page("Battery care"))
+    with Watcher(src, out, Settings(), quiet_ms=50, reload=lambda: load_settings(src)) as w:
+        before = chunk_files(out)
+        with caplog.at_level(logging.ERROR, logger="segment.daemon"):
+            write(src / "segment.toml", "max_tokens = 'many'\n")
+            w.catch_up(60)
+        assert chunk_files(out) == before
+    assert any("keeping the previous settings" in r.getMessage() for r in caplog.records)
