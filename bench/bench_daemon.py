@@ -74,7 +74,7 @@ def latency(work: Path, saves: int, quiet_ms: int) -> list[float]:
                     pass
                 time.sleep(0.001)
             samples.append(time.perf_counter() - closed)
-            watcher.sync(10)
+            watcher.catch_up(10)
     return samples
 
 

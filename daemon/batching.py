@@ -1,6 +1,6 @@
 """From file-system events to settled, coalesced batches of paths. No threads, no clock of its own.
 
-Events are only hints of where to look (RELIABILITY principle 1): a batch is a set of relative
+Events are only hints of where to look (reliability principle "events are only hints"): a batch is a set of relative
 file paths, folders to rescan, and maybe a request for a full reconcile. `batches()` takes its
 event source and clock as parameters, so tests script both and never sleep.
 """
@@ -11,18 +11,18 @@ from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 from typing import Protocol
 
+from segment.daemon.vocabulary import ChangeKind
+
 
 @dataclass(frozen=True, slots=True)
 class Change:
     """One hint from the watcher."""
 
-    kind: str
-    """`file` (look at this path), `folder` (rescan below it), `full` (rescan everything) or
-    `cookie` (a `Watcher.sync()` barrier file; `path` holds its token)."""
+    kind: ChangeKind
     path: str = ""
 
 
-FULL = Change("full")
+FULL = Change(ChangeKind.FULL)
 
 
 class EventSource(Protocol):
@@ -35,15 +35,17 @@ class EventSource(Protocol):
 
 @dataclass(slots=True)
 class Batch:
-    """Work for one sync pass."""
+    """Work for one pass of the reconciler."""
 
     files: list[str] = field(default_factory=list)
     folders: list[str] = field(default_factory=list)
     full: bool = False
     cookies: list[str] = field(default_factory=list)
+    config: bool = False
+    """The settings file changed: read it before the paths are looked at."""
 
     def __bool__(self) -> bool:
-        return bool(self.files or self.folders or self.full or self.cookies)
+        return bool(self.files or self.folders or self.full or self.cookies or self.config)
 
 
 MAX_PATHS = 5000
@@ -65,26 +67,29 @@ class Coalescer:
         self._folders: dict[str, None] = {}
         self._cookies: dict[str, None] = {}
         self._full = False
+        self._config = False
         self._first = 0.0
         self._last = 0.0
 
     def empty(self) -> bool:
         """True when nothing is pending."""
-        return not (self._files or self._folders or self._cookies or self._full)
+        return not (self._files or self._folders or self._cookies or self._full or self._config)
 
     def add(self, change: Change, now: float) -> None:
         """Record one change seen at `now`."""
         if self.empty():
             self._first = now
         self._last = now
-        if change.kind == "file":
+        if change.kind == ChangeKind.FILE:
             self._files[change.path] = None
-        elif change.kind == "folder":
+        elif change.kind == ChangeKind.FOLDER:
             self._folders[change.path] = None
-        elif change.kind == "cookie":
+        elif change.kind == ChangeKind.COOKIE:
             self._cookies[change.path] = None
-        elif change.kind == "full":
+        elif change.kind == ChangeKind.FULL:
             self._full = True
+        elif change.kind == ChangeKind.CONFIG:
+            self._config = True
         if self._full or len(self._files) + len(self._folders) > MAX_PATHS:
             self._full = True
             self._files.clear()
@@ -103,8 +108,8 @@ class Coalescer:
         files = [f for f in self._files if not any(f.startswith(d + "/") for d in folders if d)]
         if "" in self._folders:
             files, folders = [], [""]
-        batch = Batch(files, folders, self._full, list(self._cookies))
-        self._files, self._folders, self._cookies, self._full = {}, {}, {}, False
+        batch = Batch(files, folders, self._full, list(self._cookies), self._config)
+        self._files, self._folders, self._cookies, self._full, self._config = {}, {}, {}, False, False
         return batch
 
 

@@ -1,8 +1,8 @@
 """Crash-safe file writes and the named crash points tests use to prove them.
 
 Every output file is replaced atomically: temp file in the same folder, write, flush, fsync,
-`os.replace`, then fsync of the folder (RELIABILITY S1/S2). A failed fsync is never retried:
-the temp file is removed and the error goes up, so the store is not committed (S3).
+`os.replace`, then fsync of the folder (reliability scenario "killed mid-update / power loss"). A failed fsync is never retried:
+the temp file is removed and the error goes up, so the store is not committed ("failed fsync").
 """
 
 from __future__ import annotations

@@ -1,8 +1,8 @@
 """From watchdog's events to path hints, and the checks that pick the kind of observer.
 
 The observer's handler only enqueues raw events (an exception in a handler kills watchdog's
-dispatch thread, RELIABILITY W10); `changes_of` turns them into hints in the consumer thread,
-routing every event by both its source and its destination path (W3).
+dispatch thread, reliability scenario "watcher thread died"); `changes_of` turns them into hints in the consumer thread,
+routing every event by both its source and its destination path ("editor saves by rename").
 """
 
 from __future__ import annotations
@@ -17,6 +17,8 @@ from watchdog.events import FileSystemEvent, FileSystemEventHandler
 
 from segment.daemon.batching import FULL, Change
 from segment.daemon.scope import COOKIE_PREFIX, Scope, is_litter
+from segment.daemon.vocabulary import ChangeKind
+from segment.settings import CONFIG_NAME
 
 log = logging.getLogger(__name__)
 
@@ -38,7 +40,7 @@ class EnqueueHandler(FileSystemEventHandler):
 
 
 class OverflowAlarm(logging.Handler):
-    """Turns watchdog's 'queue overflowed' log line into a full-reconcile request (W1)."""
+    """Turns watchdog's 'queue overflowed' log line into a full-reconcile request ("inotify queue overflow")."""
 
     def __init__(self, events: queue.Queue[FileSystemEvent | Change]) -> None:
         super().__init__(logging.WARNING)
@@ -64,12 +66,14 @@ def changes_of(event: FileSystemEvent, scope: Scope) -> list[Change]:
             continue
         name = rel.rsplit("/", 1)[-1]
         if "/" not in rel and name.startswith(COOKIE_PREFIX):
-            out.append(Change("cookie", name[len(COOKIE_PREFIX) :]))
+            out.append(Change(ChangeKind.COOKIE, name[len(COOKIE_PREFIX) :]))
+        elif rel == CONFIG_NAME:
+            out.append(Change(ChangeKind.CONFIG, rel))
         elif event.is_directory:
             if event.event_type != "modified" and event.event_type != "attrib":
-                out.append(Change("folder", rel))
+                out.append(Change(ChangeKind.FOLDER, rel))
         elif not is_litter(name) and scope.file_wanted(rel):
-            out.append(Change("file", rel))
+            out.append(Change(ChangeKind.FILE, rel))
     return out
 
 
@@ -95,7 +99,7 @@ class QueueSource:
 
 
 def watch_limit_exceeded(src: Path) -> bool:
-    """True when SRC has more folders than inotify may watch (W2; watchdog is silent then)."""
+    """True when SRC has more folders than inotify may watch ("watch limit reached"; watchdog is silent then)."""
     try:
         limit = int(Path("/proc/sys/fs/inotify/max_user_watches").read_text().strip())
     except (OSError, ValueError):
@@ -138,6 +142,6 @@ def fs_type(path: Path) -> str:
 
 
 def needs_polling(path: Path) -> bool:
-    """True on file systems where inotify misses other hosts' writes (RELIABILITY W12)."""
+    """True on file systems where inotify misses other hosts' writes (reliability scenario "network file system")."""
     kind = fs_type(path)
     return kind in NETWORK_FS or kind.startswith("fuse.")

@@ -1,8 +1,10 @@
 """The change feed OUT/changes.jsonl (DESIGN.md section 5).
 
 One JSON object a line, appended only:
-    {"seq": n, "op": "upsert" | "delete", "id": ..., "source": ...}
+    {"seq": n, "op": "upsert" | "delete" | "relocate", "id": ..., "source": ...}
     {"seq": n, "op": "error", "source": ..., "error": ...}
+`relocate` names a chunk whose text (so id) is unchanged but whose record changed in another
+field (lines, seq, pages): an indexer refreshes the stored record without re-embedding it.
 `seq` starts at 1 and strictly increases across restarts. Entries are written and fsynced before
 the store commits, so after a crash the feed may repeat entries of the interrupted batch (with
 new numbers); replaying upserts and deletes as set operations is idempotent, so an indexer that
@@ -19,6 +21,7 @@ from pathlib import Path
 from typing import Any
 
 from segment.daemon.durable import crashpoint
+from segment.daemon.vocabulary import FeedOp
 
 FEED_NAME = "changes.jsonl"
 
@@ -27,24 +30,45 @@ FEED_NAME = "changes.jsonl"
 class FeedEntry:
     """One line of the feed before it is numbered."""
 
-    op: str
-    """`upsert`, `delete` or `error`."""
+    op: FeedOp
     source: str
     id: str | None = None
     error: str | None = None
 
     def to_dict(self, seq: int) -> dict[str, Any]:
         """The JSON form, keys in the documented order."""
-        if self.op == "error":
-            return {"seq": seq, "op": "error", "source": self.source, "error": self.error}
-        return {"seq": seq, "op": self.op, "id": self.id, "source": self.source}
+        if self.op == FeedOp.ERROR:
+            return {"seq": seq, "op": str(self.op), "source": self.source, "error": self.error}
+        return {"seq": seq, "op": str(self.op), "id": self.id, "source": self.source}
+
+
+def relocated(
+    source: str, old_ids: list[str], old_digests: list[str], new_ids: list[str], new_digests: list[str]
+) -> list[FeedEntry]:
+    """Relocate entries for ids kept from `old` to `new` whose record digest changed.
+
+    When the old digests are unknown (a store written before they were kept), every kept id is
+    relocated: refreshing a record that did not move is harmless, missing one that did is not.
+    """
+    known = len(old_digests) == len(old_ids)
+    before: dict[str, set[str]] = {}
+    for i, chunk_id in enumerate(old_ids):
+        before.setdefault(chunk_id, set()).add(old_digests[i] if known else "")
+    after: dict[str, set[str]] = {}
+    for chunk_id, digest in zip(new_ids, new_digests, strict=True):
+        after.setdefault(chunk_id, set()).add(digest)
+    return [
+        FeedEntry(FeedOp.RELOCATE, source, id=chunk_id)
+        for chunk_id, digests in after.items()
+        if chunk_id in before and before[chunk_id] != digests
+    ]
 
 
 def diff_ids(source: str, old: list[str], new: list[str]) -> list[FeedEntry]:
     """Entries for one file: delete ids that disappeared, then upsert ids that appeared."""
     old_set, new_set = set(old), set(new)
-    out = [FeedEntry("delete", source, id=i) for i in dict.fromkeys(old) if i not in new_set]
-    out += [FeedEntry("upsert", source, id=i) for i in dict.fromkeys(new) if i not in old_set]
+    out = [FeedEntry(FeedOp.DELETE, source, id=i) for i in dict.fromkeys(old) if i not in new_set]
+    out += [FeedEntry(FeedOp.UPSERT, source, id=i) for i in dict.fromkeys(new) if i not in old_set]
     return out
 
 
@@ -93,9 +117,9 @@ def compensation(out: Path, committed_seq: int, committed: dict[str, list[str]])
     for entry in read_feed(out, after=committed_seq):
         source = entry["source"]
         view = views.setdefault(source, dict.fromkeys(committed.get(source, [])))
-        if entry["op"] == "upsert":
+        if entry["op"] == FeedOp.UPSERT:
             view[entry["id"]] = None
-        elif entry["op"] == "delete":
+        elif entry["op"] == FeedOp.DELETE:
             view.pop(entry["id"], None)
     out_entries: list[FeedEntry] = []
     for source, view in views.items():
@@ -155,8 +179,8 @@ def replay(out: Path) -> dict[str, str]:
     """Apply the whole feed as set operations: the current id -> source map it implies."""
     ids: dict[str, str] = {}
     for entry in read_feed(out):
-        if entry["op"] == "upsert":
+        if entry["op"] == FeedOp.UPSERT:
             ids[entry["id"]] = entry["source"]
-        elif entry["op"] == "delete":
+        elif entry["op"] == FeedOp.DELETE:
             ids.pop(entry["id"], None)
     return ids

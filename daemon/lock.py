@@ -1,4 +1,4 @@
-"""One writer per output folder: an exclusive `flock` on OUT/.lock (RELIABILITY S5)."""
+"""One writer per output folder: an exclusive `flock` on OUT/.lock (reliability scenario "two writers")."""
 
 from __future__ import annotations
 
@@ -6,11 +6,11 @@ import fcntl
 import os
 from pathlib import Path
 
+from segment.daemon.errors import OutputBusy
+
 LOCK_NAME = ".lock"
 
-
-class OutputBusy(RuntimeError):
-    """Another docsegment process already writes this output folder."""
+__all__ = ["LOCK_NAME", "OutputBusy", "OutputLock"]
 
 
 class OutputLock:

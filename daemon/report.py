@@ -6,8 +6,8 @@ from dataclasses import dataclass, field
 
 
 @dataclass(slots=True)
-class SyncReport:
-    """What one reconcile pass did."""
+class PassReport:
+    """What one pass of the reconciler did (counts, failures)."""
 
     scanned: int = 0
     """Files looked at (on disk or in the store)."""
@@ -21,26 +21,33 @@ class SyncReport:
     """Chunk ids announced as upserts."""
     removed: int = 0
     """Chunk ids announced as deletes."""
-    skipped: list[str] = field(default_factory=list)
-    """Sources that kept changing during their parse (left for the next pass)."""
+    relocated: int = 0
+    """Chunk ids announced as relocated (same text, record changed)."""
+    held: list[tuple[str, str]] = field(default_factory=list)
+    """(source, reason) of files held back as still changing (pending: retried soon)."""
     last_seq: int = 0
     ms: float = 0.0
     parse_pids: set[int] = field(default_factory=set)
     """Processes that parsed files (never the daemon's own pid)."""
+    not_read: dict[str, int] = field(default_factory=dict)
+    """Files under SRC that no adapter reads, counted by suffix (full passes only)."""
     interrupted: int = 0
     """Files left for the next pass because a stop was requested."""
 
     def line(self, what: str) -> str:
         """The one log line for this pass."""
         failed = f", {len(self.failed)} failed" if self.failed else ""
-        skipped = f", {len(self.skipped)} still changing" if self.skipped else ""
+        skipped = f", {len(self.held)} still changing" if self.held else ""
+        moved = f", {self.relocated} relocated" if self.relocated else ""
+        counts = ", ".join(f"{n} {suffix}" for suffix, n in sorted(self.not_read.items()))
+        unread = f"; not read: {counts}" if counts else ""
         skipped += f", {self.interrupted} left for the next run (stopped)" if self.interrupted else ""
         return (
             f"{what}: {self.scanned} files, re-segmented {self.parsed} files, deleted {self.deleted}"
-            f"{failed}{skipped}; chunks +{self.added} -{self.removed}; {self.ms:.0f} ms"
+            f"{failed}{skipped}; chunks +{self.added} -{self.removed}{moved}; {self.ms:.0f} ms{unread}"
         )
 
-    def merge(self, other: SyncReport) -> None:
+    def merge(self, other: PassReport) -> None:
         """Add another pass's counts to this one."""
         self.scanned += other.scanned
         self.parsed += other.parsed
@@ -49,6 +56,7 @@ class SyncReport:
         self.failed += other.failed
         self.added += other.added
         self.removed += other.removed
-        self.skipped += other.skipped
+        self.relocated += other.relocated
+        self.held += other.held
         self.last_seq = max(self.last_seq, other.last_seq)
         self.parse_pids |= other.parse_pids

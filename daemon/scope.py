@@ -1,6 +1,6 @@
 """Which files under SRC belong to the output: include/exclude, editor litter, OUT itself.
 
-Scan and watch share this one policy (RELIABILITY W13), so a watched tree and a fresh build
+Scan and watch share this one policy (reliability scenario "symlink loops and escapes"), so a watched tree and a fresh build
 always agree on the set of files:
 - patterns are gitignore-style (pathspec), `Settings.exclude` defaults included; an excluded
   folder hides everything below it, as in git;
@@ -18,16 +18,16 @@ import fnmatch
 import os
 import stat
 from dataclasses import dataclass
-from pathlib import Path
+from pathlib import Path, PurePath
 
 import pathspec
 
-from segment.adapters import is_extensionless, is_supported, names_files
+from segment.adapters import is_extensionless, names_files, supported_suffixes
 from segment.daemon.store import StatSig
-from segment.settings import Settings
+from segment.settings import CONFIG_NAME, Settings
 
 COOKIE_PREFIX = ".docsegment-cookie-"
-"""Names of the barrier files `Watcher.sync()` creates at the root (never segmented)."""
+"""Names of the barrier files `Watcher.catch_up()` creates at the root (never segmented)."""
 
 EDITOR_LITTER: tuple[str, ...] = (
     "4913",  # vim's probe file (common practice: vim writes it to test the folder)
@@ -71,6 +71,8 @@ class Scope:
         self.include_names = pathspec.GitIgnoreSpec.from_lines(naming) if naming else None
         """Include patterns that name files (`README`, `**/NOTES*`): only these take extension-less files."""
         self._out_id = _dir_id(self.out)
+        self.unread: dict[str, list[str]] = {}
+        """Files the last `scan` skipped because no adapter reads them: suffix -> paths."""
 
     # -- names -----------------------------------------------------------------------------
 
@@ -92,7 +94,9 @@ class Scope:
     def in_out(self, rel: str) -> bool:
         """True when `rel` is the output folder or lies inside it."""
         out_rel = self.rel(str(self.out))
-        return bool(out_rel) and (rel == out_rel or rel.startswith(out_rel + "/"))
+        if not out_rel:
+            return False
+        return rel == out_rel or rel.startswith(out_rel + "/")
 
     def dir_wanted(self, rel: str) -> bool:
         """Whether the scan descends into a folder."""
@@ -105,9 +109,19 @@ class Scope:
     def file_wanted(self, rel: str) -> bool:
         """Whether a file path (by name only) belongs to the output."""
         name = rel.rsplit("/", 1)[-1]
-        if not rel or is_litter(name) or self.in_out(rel):
+        if not is_read(name) and not (is_extensionless(name) and self.named_by_include(rel)):
             return False
-        if not is_supported(name) and not (is_extensionless(name) and self.named_by_include(rel)):
+        return self._selected(rel)
+
+    def named_by_include(self, rel: str) -> bool:
+        """True when an include pattern that names files (not a whole folder) matches `rel`."""
+        return self.include_names is not None and self.include_names.match_file(rel)
+
+    def _selected(self, rel: str) -> bool:
+        """The user's and our own selection, whatever the suffix: not litter, not excluded,
+        included, not inside OUT."""
+        name = rel.rsplit("/", 1)[-1]
+        if not rel or is_litter(name) or self.in_out(rel):
             return False
         parts = rel.split("/")
         for i in range(1, len(parts)):
@@ -117,9 +131,15 @@ class Scope:
             return False
         return self.include is None or self.include.match_file(rel)
 
-    def named_by_include(self, rel: str) -> bool:
-        """True when an include pattern that names files (not a whole folder) matches `rel`."""
-        return self.include_names is not None and self.include_names.match_file(rel)
+    def not_read(self, rel: str) -> bool:
+        """True for a file the user's selection takes but no adapter reads (counted, skipped).
+
+        The settings file at the root is ours, not a skipped document.
+        """
+        name = rel.rsplit("/", 1)[-1]
+        if rel == CONFIG_NAME or is_read(name) or (is_extensionless(name) and self.named_by_include(rel)):
+            return False
+        return self._selected(rel)
 
     # -- disk ------------------------------------------------------------------------------
 
@@ -144,6 +164,7 @@ class Scope:
     def scan(self, prefix: str = "") -> dict[str, StatSig]:
         """Every wanted file at or below `prefix` (a file or folder), walked iteratively."""
         found: dict[str, StatSig] = {}
+        self.unread = {}
         if prefix:
             parts = prefix.split("/")
             if not all(self.dir_wanted("/".join(parts[:i])) for i in range(1, len(parts))):
@@ -180,7 +201,19 @@ class Scope:
                     sig = self._stat_regular(Path(entry.path))
                     if sig is not None:
                         found[rel] = sig
+                elif self.not_read(rel) and self._stat_regular(Path(entry.path)) is not None:
+                    self.unread.setdefault(suffix_of(entry.name), []).append(rel)
         return found
+
+
+def suffix_of(name: str) -> str:
+    """The lower-case suffix of a file name, "(none)" when it has none."""
+    return PurePath(name).suffix.lower() or "(none)"
+
+
+def is_read(name: str) -> bool:
+    """True when some adapter reads a file of this name (by its suffix)."""
+    return PurePath(name).suffix.lower() in supported_suffixes()
 
 
 def display_name(rel: str) -> str:

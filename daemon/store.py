@@ -1,7 +1,7 @@
 """SQLite state of an output folder: one row per source file, plus a few counters.
 
 The store is a cache that reconcile can always rebuild from the source tree and the chunk files
-(RELIABILITY principle 5), so a corrupt database is moved aside and started afresh. One process
+(reliability principle "the state can always be rebuilt"), so a corrupt database is moved aside and started afresh. One process
 writes it (the lock in `daemon.lock` guarantees that); readers open it read-only.
 """
 
@@ -16,11 +16,16 @@ from collections.abc import Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
+
+from segment.daemon.vocabulary import FileStatus
 
 log = logging.getLogger(__name__)
 
 STATE_NAME = "state.sqlite3"
-SCHEMA_VERSION = "1"
+SCHEMA_VERSION = "2"
+"""Version 2 added `files.digests`, the `pending` table, and renamed the counter
+`overflow_recrawls` to `overflow_rescans`; a version 1 store is migrated in place."""
 
 RACY_WINDOW_NS = 2_000_000_000
 """A file whose mtime is not older than its record by this much is hashed instead of trusted.
@@ -44,9 +49,22 @@ CREATE TABLE IF NOT EXISTS files (
     status      TEXT NOT NULL,      -- 'ok' or the failure status of the last attempt
     error       TEXT,               -- reason of the last failure
     failures    INTEGER NOT NULL DEFAULT 0,  -- consecutive failures with this hash
-    recorded_ns INTEGER NOT NULL    -- wall clock when the stat above was taken
+    recorded_ns INTEGER NOT NULL,   -- wall clock when the stat above was taken
+    digests     TEXT NOT NULL DEFAULT '[]'  -- JSON list: digest of each chunk record, as ids
 );
 CREATE TABLE IF NOT EXISTS meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
+CREATE TABLE IF NOT EXISTS pending (
+    path     BLOB PRIMARY KEY,      -- a file held back as still changing, retried soon
+    source   TEXT NOT NULL,
+    reason   TEXT NOT NULL,
+    since_ns INTEGER NOT NULL       -- wall clock when it was first held back
+);
+"""
+
+_MIGRATE_FROM_1 = """
+ALTER TABLE files ADD COLUMN digests TEXT NOT NULL DEFAULT '[]';
+UPDATE meta SET key = 'overflow_rescans' WHERE key = 'overflow_recrawls';
+UPDATE meta SET value = '2' WHERE key = 'schema';
 """
 
 
@@ -78,10 +96,12 @@ class FileState:
     hash: str
     fingerprint: str
     ids: list[str] = field(default_factory=list)
-    status: str = "ok"
+    status: str = FileStatus.OK
     error: str | None = None
     failures: int = 0
     recorded_ns: int = 0
+    digests: list[str] = field(default_factory=list)
+    """A digest of each chunk record, in the order of `ids` (a changed locator changes it)."""
 
     def trusts(self, sig: StatSig, fingerprint: str) -> bool:
         """True when `sig` proves the file is unchanged without reading it.
@@ -183,7 +203,7 @@ class Store:
         """Insert or replace a row (inside a transaction)."""
         s = state.sig
         self.conn.execute(
-            "INSERT OR REPLACE INTO files VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
+            "INSERT OR REPLACE INTO files VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)",
             (
                 _key(state.path),
                 state.source,
@@ -199,12 +219,31 @@ class Store:
                 state.error,
                 state.failures,
                 state.recorded_ns,
+                json.dumps(state.digests),
             ),
         )
 
     def delete(self, path: str) -> None:
         """Forget a file (inside a transaction)."""
         self.conn.execute("DELETE FROM files WHERE path = ?", (_key(path),))
+
+    # -- files held back as still changing -------------------------------------------------
+
+    def hold(self, path: str, source: str, reason: str) -> None:
+        """Record a file as pending (inside a transaction); keeps the time it was first held."""
+        self.conn.execute(
+            "INSERT INTO pending VALUES (?, ?, ?, ?) ON CONFLICT(path) DO UPDATE SET reason = excluded.reason",
+            (_key(path), source, reason, time.time_ns()),
+        )
+
+    def release(self, path: str) -> None:
+        """Forget a pending file (inside a transaction)."""
+        self.conn.execute("DELETE FROM pending WHERE path = ?", (_key(path),))
+
+    def held(self) -> dict[str, str]:
+        """Pending files: relative path -> reason."""
+        rows = self.conn.execute("SELECT path, reason FROM pending").fetchall()
+        return {os.fsdecode(bytes(path)): str(reason) for path, reason in rows}
 
     # -- meta ------------------------------------------------------------------------------
 
@@ -239,6 +278,9 @@ def _connect(path: Path) -> sqlite3.Connection:
             raise StoreCorrupt(str(result[0] if result else "no answer"))
         conn.executescript(_SCHEMA)
         version = conn.execute("SELECT value FROM meta WHERE key='schema'").fetchone()
+        if version is not None and version[0] == "1":
+            conn.executescript("BEGIN IMMEDIATE;" + _MIGRATE_FROM_1 + "COMMIT;")
+            version = ("2",)
         if version is None:
             conn.execute("INSERT INTO meta VALUES ('schema', ?)", (SCHEMA_VERSION,))
         elif version[0] != SCHEMA_VERSION:
@@ -253,19 +295,24 @@ def _key(path: str) -> bytes:
     return os.fsencode(path)
 
 
-def _row(row: tuple[object, ...]) -> FileState:
-    (path, source, size, mtime, ctime, ino, dev, digest, fp, ids, status, error, failures, recorded) = row
+def _row(row: tuple[Any, ...]) -> FileState:
+    """A row of `files` (columns in schema order) as a FileState."""
+    (path, source, size, mtime, ctime, ino, dev, digest, fp, ids, status, error, failures, recorded) = row[
+        :14
+    ]
+    digests = row[14]
     return FileState(
-        path=os.fsdecode(bytes(path)),  # type: ignore[arg-type]
+        path=os.fsdecode(bytes(path)),
         source=str(source),
-        sig=StatSig(int(size), int(mtime), int(ctime), int(ino), int(dev)),  # type: ignore[call-overload]
+        sig=StatSig(int(size), int(mtime), int(ctime), int(ino), int(dev)),
         hash=str(digest),
         fingerprint=str(fp),
         ids=list(json.loads(str(ids))),
         status=str(status),
         error=None if error is None else str(error),
-        failures=int(failures),  # type: ignore[call-overload]
-        recorded_ns=int(recorded),  # type: ignore[call-overload]
+        failures=int(failures),
+        recorded_ns=int(recorded),
+        digests=list(json.loads(str(digests))),
     )
 
 
@@ -283,6 +330,24 @@ class StatusReport:
     counters: dict[str, int]
     noted: list[tuple[str, str]] = field(default_factory=list)
     """(source, warnings) of files chunked with a note (repaired PDF, replaced bytes...)."""
+    pending: list[tuple[str, str, float]] = field(default_factory=list)
+    """(source, reason, seconds since first held) of files held back as still changing."""
+    not_read: dict[str, list[str]] = field(default_factory=dict)
+    """Files under SRC that no adapter reads, by suffix (as of the last full pass)."""
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON form `segment status --json` prints."""
+        return {
+            "files": self.files,
+            "chunks": self.chunks,
+            "failed": [{"source": s, "status": st, "reason": r} for s, st, r in self.failed],
+            "warnings": [{"source": s, "warnings": w} for s, w in self.noted],
+            "last_seq": self.last_seq,
+            "degraded": self.degraded or None,
+            "counters": self.counters,
+            "pending": [{"source": s, "reason": r, "since": round(t, 1)} for s, r, t in self.pending],
+            "not_read": self.not_read,
+        }
 
 
 def read_status(out: Path) -> StatusReport | None:
@@ -309,6 +374,13 @@ def read_status(out: Path) -> StatusReport | None:
             )
         ]
         meta = dict(conn.execute("SELECT key, value FROM meta").fetchall())
+        now = time.time_ns()
+        pending = [
+            (str(src), str(reason), max(0, now - int(since)) / 1e9)
+            for src, reason, since in conn.execute(
+                "SELECT source, reason, since_ns FROM pending ORDER BY path"
+            )
+        ]
     except sqlite3.DatabaseError:
         return None
     finally:
@@ -316,7 +388,7 @@ def read_status(out: Path) -> StatusReport | None:
     counters = {
         k: int(v)
         for k, v in meta.items()
-        if k in ("overflow_recrawls", "observer_restarts", "rebuilt_state", "full_reconciles")
+        if k in ("overflow_rescans", "observer_restarts", "rebuilt_state", "full_reconciles")
     }
     return StatusReport(
         files=int(files),
@@ -326,4 +398,21 @@ def read_status(out: Path) -> StatusReport | None:
         degraded=str(meta.get("degraded", "")),
         counters=counters,
         noted=noted,
+        pending=pending,
+        not_read=_not_read(meta.get("not_read", "")),
     )
+
+
+def _not_read(value: str) -> dict[str, list[str]]:
+    try:
+        data = json.loads(value) if value else {}
+    except ValueError:
+        return {}
+    if not isinstance(data, dict):
+        return {}
+    return {str(k): sorted(_display(p) for p in v) for k, v in data.items() if isinstance(v, list)}
+
+
+def _display(rel: object) -> str:
+    """A stored path as valid Unicode (undecodable bytes as U+FFFD)."""
+    return str(rel).encode("utf-8", "surrogateescape").decode("utf-8", "replace")

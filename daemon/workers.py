@@ -1,6 +1,6 @@
 """Worker processes that parse and cut one file per task, under a time and memory limit.
 
-A parser may hang, segfault, abort or eat memory (RELIABILITY P1-P4), so parsing never runs in
+A parser may hang, segfault, abort or eat memory (reliability scenarios: parser crash, hang, bad input, memory growth), so parsing never runs in
 the daemon's process. Each worker is a child started by the `forkserver` method (`spawn` where
 that is missing; never a plain fork of the threaded daemon), talks over a pipe, and gets:
 - `RLIMIT_AS = Settings.memory_mb` (0: no limit), so a runaway allocation raises MemoryError;
@@ -12,7 +12,6 @@ A worker that dies or is killed is replaced; its file gets `crashed`, `timeout` 
 
 from __future__ import annotations
 
-import hashlib
 import logging
 import multiprocessing
 import multiprocessing.connection
@@ -21,70 +20,22 @@ import signal
 import time
 from collections import deque
 from collections.abc import Callable, Generator, Iterable
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from multiprocessing.connection import Connection
 from typing import Any
 
-from segment.daemon.store import StatSig
-from segment.errors import SegmentError
+from segment.daemon.errors import WorkerStartError
+from segment.daemon.tasks import HOOKS_ENV, Outcome, Task, run_task
+from segment.daemon.vocabulary import FileStatus
 from segment.settings import Settings
 
 log = logging.getLogger(__name__)
 
-HOOKS_ENV = "DOCSEGMENT_TEST_HOOKS"
-"""Set to 1 to make workers misbehave on purpose for files named *.crash.md, *.segv.md,
-*.hang.md and *.oom.md (tests only; read once when a pool starts)."""
-
 MAX_TASKS_PER_WORKER = 2000
-"""Recycle a worker after this many files, so slow leaks in parsers cannot pile up (P4)."""
+"""Recycle a worker after this many files, so slow leaks in parsers cannot pile up ("memory growth")."""
 
 MAX_START_FAILURES = 3
 """Workers that die before they are ready this many times in a row stop the run."""
-
-
-@dataclass(frozen=True, slots=True)
-class Task:
-    """One file to parse."""
-
-    path: str
-    """Relative path (store key)."""
-    abspath: str
-    source: str
-    """Name written into the chunk records."""
-    patient: bool = False
-    """Watch mode: a later event will bring the file back, so a young repaired PDF can wait."""
-
-
-@dataclass(slots=True)
-class Outcome:
-    """What a worker (or the pool, for a worker that died) says about one task."""
-
-    path: str
-    status: str
-    """`ok`; `changed` (file moved under the parse) or `missing` (gone); else a failure status."""
-    reason: str | None = None
-    data: bytes = b""
-    """The chunk file's bytes (JSON Lines) when `ok`."""
-    ids: list[str] = field(default_factory=list)
-    hash: str = ""
-    sig: StatSig | None = None
-    """Stat of the file before it was read (the state the chunks belong to)."""
-    recorded_ns: int = 0
-    pid: int = 0
-    """The process that parsed the file."""
-    ms: float = 0.0
-    warnings: list[str] = field(default_factory=list)
-    """What the adapter could not keep or had to guess (Document.warnings), when `ok`."""
-
-    @property
-    def failed(self) -> bool:
-        """True for a failure status (not ok/changed/missing)."""
-        return self.status not in ("ok", "changed", "missing")
-
-
-class WorkerStartError(RuntimeError):
-    """Worker processes die before they can take work (e.g. memory_mb too small to start)."""
-
 
 # -- the child side ---------------------------------------------------------------------------
 
@@ -119,99 +70,6 @@ def _warm_up(settings: Settings) -> None:
         pass
 
 
-def run_task(task: Task, settings: Settings, hooks: bool = False) -> Outcome:
-    """Parse and cut one file; never raises for problems with the file."""
-    import segment
-
-    started = time.monotonic()
-    recorded = time.time_ns()
-    try:
-        st0 = os.stat(task.abspath)
-    except FileNotFoundError:
-        return Outcome(task.path, "missing", "file vanished before it could be read", pid=os.getpid())
-    except OSError as exc:
-        return Outcome(task.path, "unreadable", f"cannot stat: {exc.strerror or exc}", pid=os.getpid())
-    sig = StatSig.of(st0)
-    out = Outcome(task.path, "ok", sig=sig, recorded_ns=recorded, pid=os.getpid())
-    try:
-        if st0.st_size > settings.max_file_bytes:
-            raise segment.TooLarge(
-                task.source, f"file is {st0.st_size} bytes, over max_file_bytes={settings.max_file_bytes}"
-            )
-        with open(task.abspath, "rb") as fh:
-            data = fh.read()  # read once: the hash and the parse see the same bytes
-        out.hash = content_hash(data)
-        if hooks:
-            _misbehave(task.path, settings.memory_mb)
-        document = segment.parse_bytes(data, task.source, settings)
-        out.warnings = list(document.warnings)
-        if task.patient and _maybe_incomplete(document.warnings, st0.st_mtime_ns):
-            # RELIABILITY W6/P3: MuPDF "repairs" a PDF cut mid-copy into partial text. While
-            # the file is young, wait for the writer to finish rather than publish a part.
-            reason = "PDF needed repair and was modified moments ago (a copy in progress?)"
-            return Outcome(task.path, "changed", reason, pid=os.getpid())
-        chunks = list(segment.chunk(document, settings))
-        out.data = b"".join((c.to_json() + "\n").encode("utf-8", "replace") for c in chunks)
-        out.ids = [c.id for c in chunks]
-    except FileNotFoundError:
-        out.status, out.reason = "missing", "file vanished while it was read"
-    except SegmentError as exc:
-        out.status, out.reason = exc.status, exc.reason
-        if exc.status == "missing":
-            out.reason = "file vanished while it was read"
-    except (MemoryError, RecursionError) as exc:
-        out.status = "resource_limit"
-        out.reason = "out of memory" if isinstance(exc, MemoryError) else "nesting too deep"
-        out.data, out.ids = b"", []
-    except OSError as exc:
-        out.status, out.reason = "unreadable", f"cannot read: {exc.strerror or exc}"
-    except Exception as exc:
-        out.status, out.reason = "error", f"{type(exc).__name__}: {exc}"
-    if out.status == "ok":
-        try:
-            after = StatSig.of(os.stat(task.abspath))
-        except OSError:
-            after = None
-        if after != sig:
-            out = Outcome(task.path, "changed", "file changed while it was parsed", pid=os.getpid())
-    out.ms = (time.monotonic() - started) * 1000
-    return out
-
-
-YOUNG_NS = 5_000_000_000
-"""A repaired PDF modified less than this long ago is treated as still being written."""
-
-
-def _maybe_incomplete(warnings: list[str], mtime_ns: int) -> bool:
-    repaired = any(w.startswith("repaired") for w in warnings)
-    return repaired and time.time_ns() - mtime_ns < YOUNG_NS
-
-
-def content_hash(data: bytes) -> str:
-    """The content hash the store keeps (BLAKE2b, 128 bits)."""
-    return hashlib.blake2b(data, digest_size=16).hexdigest()
-
-
-def _misbehave(path: str, memory_mb: int) -> None:
-    """Test hooks: crash, hang or exhaust memory on purpose, by file name."""
-    if path.endswith(".crash.md"):
-        os.abort()
-    if path.endswith(".segv.md"):
-        import ctypes
-
-        ctypes.string_at(0)
-    if path.endswith(".hang.md"):
-        while True:
-            pass
-    if path.endswith(".oom.md"):
-        # Twice the address-space limit in one block: refused at once under RLIMIT_AS.
-        hoard = bytearray(max(memory_mb, 1 << 20) * 2 * 1024 * 1024)
-        del hoard
-
-
-# -- the parent side --------------------------------------------------------------------------
-
-
 @dataclass(slots=True)
 class _Worker:
     proc: Any
@@ -223,14 +81,15 @@ class _Worker:
 
 
 class WorkerPool:
-    """A fixed number of supervised worker processes; see the module docstring."""
+    """The local executor: a fixed number of supervised worker processes (see the module
+    docstring); implements `segment.daemon.executor.Executor`."""
 
     def __init__(self, settings: Settings, jobs: int = 1, *, hooks: bool | None = None) -> None:
         self.settings = settings
         self.jobs = max(1, jobs)
         self.hooks = os.environ.get(HOOKS_ENV) == "1" if hooks is None else hooks
         methods = multiprocessing.get_all_start_methods()
-        self._ctx = multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
+        self._ctx: Any = multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
         if self._ctx.get_start_method() == "forkserver":
             self._ctx.set_forkserver_preload(["segment.daemon.workers"])
         self._workers: list[_Worker] = []
@@ -265,7 +124,7 @@ class WorkerPool:
         worker.conn.close()
         self._workers.remove(worker)
 
-    def map(
+    def outcomes(
         self,
         tasks: Iterable[Task],
         stop: Callable[[], bool] | None = None,
@@ -313,7 +172,7 @@ class WorkerPool:
                         )
                         yield Outcome(
                             task.path,
-                            "timeout",
+                            FileStatus.TIMEOUT,
                             f"parse took longer than timeout_s={self.settings.timeout_s:g}; worker killed",
                         )
                 busy_now = sum(1 for w in self._workers if w.task is not None)
@@ -397,6 +256,6 @@ def classify_exit(code: int | None) -> tuple[str, str]:
         except ValueError:
             name = f"signal {-code}"
         if -code == signal.SIGKILL:
-            return "resource_limit", "worker killed by SIGKILL (likely out of memory)"
-        return "crashed", f"worker crashed with {name}"
-    return "crashed", f"worker exited with status {code}"
+            return FileStatus.RESOURCE_LIMIT, "worker killed by SIGKILL (likely out of memory)"
+        return FileStatus.CRASHED, f"worker crashed with {name}"
+    return FileStatus.CRASHED, f"worker exited with status {code}"

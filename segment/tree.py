@@ -209,6 +209,8 @@ class Document:
     title_origin: TitleOrigin = TitleOrigin.SOURCE
     """Where `title` came from: the author's text, or derived from the file name when the source
     declares no title and has no top-level heading (see `segment.api.parse_bytes`)."""
+    repaired: bool = False
+    """The file was damaged and its reader had to repair it, so its text may be partial."""
 
     @property
     def sections(self) -> list[Section]:

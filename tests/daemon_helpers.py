@@ -9,7 +9,7 @@ import time
 from collections.abc import Callable
 from pathlib import Path
 
-from segment.daemon.feed import replay
+from segment.daemon.feed import read_feed, replay
 
 TOPICS = ["Battery care", "Flight logs", "Firmware updates", "Geofences", "Pilot roles", "Spare parts"]
 
@@ -57,6 +57,45 @@ def current_ids(out: Path) -> dict[str, str]:
             assert record["id"] not in ids, f"duplicate chunk id {record['id']}"
             ids[record["id"]] = record["source"]
     return ids
+
+
+def current_records(out: Path) -> dict[str, dict[str, object]]:
+    """Every chunk record in OUT/chunks, by id."""
+    records: dict[str, dict[str, object]] = {}
+    for data in chunk_files(out).values():
+        for line in data.splitlines():
+            record = json.loads(line)
+            records[record["id"]] = record
+    return records
+
+
+class FeedIndexer:
+    """An indexer that follows the feed as a user's would: at each `apply()` it reads the entries
+    it has not seen and, for upsert and relocate, the record as it is in OUT/chunks right then."""
+
+    def __init__(self, out: Path) -> None:
+        self.out = out
+        self.seen = 0
+        self.records: dict[str, dict[str, object]] = {}
+
+    def apply(self) -> None:
+        """Apply the entries newer than the last one seen."""
+        for entry in read_feed(self.out, after=self.seen):
+            self.seen = entry["seq"]
+            if entry["op"] == "delete":
+                self.records.pop(entry["id"], None)
+            elif entry["op"] in ("upsert", "relocate"):
+                record = self._record(entry["source"], entry["id"])
+                if record is not None:
+                    self.records[entry["id"]] = record
+
+    def _record(self, source: str, chunk_id: str) -> dict[str, object] | None:
+        for data in chunk_files(self.out).values():
+            for line in data.splitlines():
+                record = json.loads(line)
+                if record["id"] == chunk_id and record["source"] == source:
+                    return dict(record)
+        return None
 
 
 def assert_feed_matches(out: Path) -> None:

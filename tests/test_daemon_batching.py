@@ -20,6 +20,7 @@ from watchdog.events import (
 from segment.daemon.batching import FULL, Batch, Change, batches
 from segment.daemon.events import changes_of
 from segment.daemon.scope import Scope
+from segment.daemon.vocabulary import ChangeKind
 from segment.settings import Settings
 
 
@@ -63,7 +64,7 @@ def run(
 
 
 def f(path: str) -> list[Change]:
-    return [Change("file", path)]
+    return [Change(ChangeKind.FILE, path)]
 
 
 def test_events_closer_than_the_quiet_period_make_one_batch_coalesced_per_path() -> None:
@@ -97,9 +98,9 @@ def test_a_rescanned_folder_absorbs_files_below_it() -> None:
     got = run(
         [
             (1.0, f("docs/a.md")),
-            (1.0, [Change("folder", "docs")]),
+            (1.0, [Change(ChangeKind.FOLDER, "docs")]),
             (1.1, f("other.md")),
-            (1.1, [Change("cookie", "tok")]),
+            (1.1, [Change(ChangeKind.COOKIE, "tok")]),
         ]
     )
     batch = got[0][1]
@@ -108,7 +109,9 @@ def test_a_rescanned_folder_absorbs_files_below_it() -> None:
 
 
 def test_a_full_request_covers_every_path_and_keeps_the_barriers() -> None:
-    got = run([(1.0, f("docs/a.md")), (1.1, [FULL]), (1.1, f("late.md")), (1.1, [Change("cookie", "tok")])])
+    got = run(
+        [(1.0, f("docs/a.md")), (1.1, [FULL]), (1.1, f("late.md")), (1.1, [Change(ChangeKind.COOKIE, "tok")])]
+    )
     batch = got[0][1]
     assert batch.full and batch.files == [] and batch.folders == [] and batch.cookies == ["tok"]
 
@@ -136,7 +139,7 @@ def test_idle_supervision_runs_between_batches_and_its_requests_are_batched() ->
     assert [b.full for b in got] == [True]
 
 
-# -- event routing (RELIABILITY W3, W4, W14) ------------------------------------------------
+# -- event routing (reliability scenario "editor saves by rename", "vim's save sequence", "output inside the source") ------------------------------------------------
 
 
 def scope(tmp_path: Path) -> Scope:
@@ -147,7 +150,7 @@ def scope(tmp_path: Path) -> Scope:
 def test_a_move_is_routed_by_both_paths_so_an_atomic_save_onto_a_page_is_seen(tmp_path: Path) -> None:
     s = scope(tmp_path)
     src = str(tmp_path / "src")
-    # W3: an editor's save is only `moved(src=.doc.md.tmp123, dest=doc.md)`.
+    # "editor saves by rename": an editor's save is only `moved(src=.doc.md.tmp123, dest=doc.md)`.
     assert changes_of(FileMovedEvent(f"{src}/.doc.md.tmp123", f"{src}/doc.md"), s) == f("doc.md")
     assert changes_of(FileMovedEvent(f"{src}/a.md", f"{src}/b.md"), s) == f("a.md") + f("b.md")
     # vim renames the page to its backup first: the page's path is looked at, the backup never.
@@ -184,12 +187,14 @@ def test_content_events_and_folder_events_map_to_file_and_folder_hints(tmp_path:
         FileDeletedEvent(f"{src}/a.md"),
     ):
         assert changes_of(event, s) == f("a.md")
-    assert changes_of(DirCreatedEvent(f"{src}/guides"), s) == [Change("folder", "guides")]
+    assert changes_of(DirCreatedEvent(f"{src}/guides"), s) == [Change(ChangeKind.FOLDER, "guides")]
     assert changes_of(DirMovedEvent(f"{src}/a", f"{src}/b/c"), s) == [
-        Change("folder", "a"),
-        Change("folder", "b/c"),
+        Change(ChangeKind.FOLDER, "a"),
+        Change(ChangeKind.FOLDER, "b/c"),
     ]
-    assert changes_of(FileCreatedEvent(f"{src}/.docsegment-cookie-abc"), s) == [Change("cookie", "abc")]
+    assert changes_of(FileCreatedEvent(f"{src}/.docsegment-cookie-abc"), s) == [
+        Change(ChangeKind.COOKIE, "abc")
+    ]
     assert changes_of(FileCreatedEvent(str(tmp_path / "elsewhere.md")), s) == []
 
 

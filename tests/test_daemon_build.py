@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from segment.daemon import OutputBusy, Syncer, read_status, reconcile, replay
-from segment.daemon.commands import run_build, run_status
+from segment.cli import run_build, run_status
+from segment.daemon import OutputBusy, Reconciler, read_status, reconcile, replay
 from segment.settings import Settings
 from tests.daemon_helpers import (
     assert_feed_matches,
@@ -40,7 +40,9 @@ def test_first_build_writes_one_chunk_file_per_page_and_announces_every_id(src: 
     assert set(current_ids(out).values()) == {f"area{i % 3}/page{i}.md" for i in range(6)}
     assert all(e["op"] == "upsert" for e in feed(out))
     assert_feed_matches(out)
-    assert os.getpid() not in report.parse_pids  # RELIABILITY P5: parsing runs in other processes
+    assert (
+        os.getpid() not in report.parse_pids
+    )  # reliability scenario "parsing off the daemon's threads": parsing runs in other processes
 
 
 def test_a_second_build_of_an_unchanged_tree_re_segments_nothing_and_says_so(
@@ -67,7 +69,7 @@ def test_touching_every_file_re_segments_nothing(src: Path, tmp_path: Path) -> N
 
 
 def test_a_same_size_rewrite_with_the_old_mtime_restored_is_caught(src: Path, tmp_path: Path) -> None:
-    # RELIABILITY W7 (git t0010-racy-git.sh, done with os.utime as libgit2/JGit do).
+    # reliability scenario "racy same-size rewrite" (git t0010-racy-git.sh, done with os.utime as libgit2/JGit do).
     out = tmp_path / "out"
     target = src / "area0" / "page0.md"
     write(target, page("Spare parts", "Order spare rotors in pairs."))
@@ -169,9 +171,9 @@ def test_scope_excludes_secrets_editor_litter_our_output_and_links_out_of_the_ro
     write(src / "guide.md~", page("Backup"))
     write(tmp_path / "outside" / "secret.md", page("Outside"))
     (src / "link-out.md").symlink_to(tmp_path / "outside" / "secret.md")
-    (src / "loop").symlink_to(src)  # a folder symlink loop (RELIABILITY W13)
+    (src / "loop").symlink_to(src)  # a folder symlink loop (reliability scenario "symlink loops and escapes")
     (src / "link-in.md").symlink_to(src / "guide.md")
-    out = src / "_out"  # OUT inside SRC is never read back (W14)
+    out = src / "_out"  # OUT inside SRC is never read back ("output inside the source")
     settings = Settings(exclude=Settings().exclude + ("drafts/",))
     reconcile(src, out, settings)
     assert sorted(chunk_files(out)) == ["guide.md.jsonl", "link-in.md.jsonl"]
@@ -188,9 +190,9 @@ def test_a_second_writer_is_refused_with_a_clear_message(
     src: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
     out = tmp_path / "out"
-    with Syncer(src, out, Settings()):
+    with Reconciler(src, out, Settings()):
         with pytest.raises(OutputBusy, match="another docsegment build or watch"):
-            Syncer(src, out, Settings())
+            Reconciler(src, out, Settings())
         assert run_build(src, out, Settings()) == 1
     assert f"pid {os.getpid()}" in capsys.readouterr().err
 
@@ -227,7 +229,7 @@ def test_status_prints_counts_failures_and_seq(
 
 
 def test_odd_file_names_round_trip_and_every_feed_line_is_strict_utf8(tmp_path: Path) -> None:
-    # RELIABILITY W15: undecodable bytes, a newline, NFD forms and a 255-byte name.
+    # reliability scenario "undecodable file names": undecodable bytes, a newline, NFD forms and a 255-byte name.
     src, out = tmp_path / "docs", tmp_path / "out"
     src.mkdir()
     names = [b"bad\xff.md", b"two\nlines.md", "cafe\u0301.md".encode(), b"n" * 252 + b".md"]
@@ -250,10 +252,10 @@ def test_a_stop_request_commits_what_is_done_and_the_next_pass_does_the_rest(
     src: Path, tmp_path: Path
 ) -> None:
     out = tmp_path / "out"
-    with Syncer(src, out, Settings()) as syncer:
+    with Reconciler(src, out, Settings()) as reconciler:
         seen: list[int] = []
-        syncer.stop_requested = lambda: len(seen) > 0
-        report = syncer.reconcile(progress=lambda done, total: seen.append(done))
+        reconciler.stop_requested = lambda: len(seen) > 0
+        report = reconciler.reconcile(progress=lambda done, total: seen.append(done))
     assert report.interrupted > 0 and report.parsed == 6 - report.interrupted
     assert "left for the next run" in report.line("build")
     assert_feed_matches(out)
@@ -263,7 +265,7 @@ def test_a_stop_request_commits_what_is_done_and_the_next_pass_does_the_rest(
 def test_a_failed_fsync_commits_nothing_keeps_old_chunks_and_the_next_build_converges(
     src: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    # RELIABILITY S3: never retry a failed fsync and mark the output committed.
+    # reliability scenario "failed fsync": never retry a failed fsync and mark the output committed.
     import errno
 
     out = tmp_path / "out"
@@ -293,12 +295,12 @@ def test_a_failed_fsync_commits_nothing_keeps_old_chunks_and_the_next_build_conv
 def test_a_feed_write_that_fails_halfway_is_undone_without_a_restart(
     src: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    # RELIABILITY S4 on the feed: half an append reached the disk, then the disk filled up.
+    # reliability scenario "disk full" on the feed: half an append reached the disk, then the disk filled up.
     import errno
 
     out = tmp_path / "out"
-    with Syncer(src, out, Settings()) as syncer:
-        syncer.reconcile()
+    with Reconciler(src, out, Settings()) as reconciler:
+        reconciler.reconcile()
         write(src / "area0" / "page0.md", page("Geofences", "Redraw the zone after each survey."))
         real_write, calls = os.write, []
 
@@ -311,16 +313,16 @@ def test_a_feed_write_that_fails_halfway_is_undone_without_a_restart(
 
         monkeypatch.setattr(os, "write", half_then_full)
         with pytest.raises(OSError, match="No space left"):
-            syncer.reconcile()
+            reconciler.reconcile()
         monkeypatch.setattr(os, "write", real_write)
-        syncer.reconcile()  # the same process carries on
+        reconciler.reconcile()  # the same process carries on
     assert_feed_matches(out)
     assert b"Redraw the zone" in chunk_files(out)["area0/page0.md.jsonl"]
 
 
 def test_a_file_chunked_with_a_note_shows_it_in_status(tmp_path: Path) -> None:
     # Document.warnings reach the store and `segment status`: here bytes that are not UTF-8
-    # (RELIABILITY P10), decoded as Windows-1252 and kept.
+    # (reliability scenario "text encodings"), decoded as Windows-1252 and kept.
     from segment.daemon.store import read_status
 
     src, out = tmp_path / "docs", tmp_path / "out"
@@ -330,3 +332,30 @@ def test_a_file_chunked_with_a_note_shows_it_in_status(tmp_path: Path) -> None:
     status = read_status(out)
     assert status is not None and status.failed == []
     assert status.noted == [("legacy.md", "not valid UTF-8: decoded as Windows-1252")]
+
+
+def test_files_no_adapter_reads_are_counted_by_suffix(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # A folder of reStructuredText beside the Markdown: nothing is chunked from it, and the build
+    # summary and `segment status` say so, so nobody wonders why it produced nothing.
+    src, out = tmp_path / "docs", tmp_path / "out"
+    write(src / "guide.md", page("Battery care"))
+    write(src / "api" / "queue.rst", "Queue\n=====\n\nA first-in, first-out queue.\n")
+    write(src / "api" / "stack.rst", "Stack\n=====\n\nLast in, first out.\n")
+    write(src / "notes.txt", "plain text\n")
+    write(src / "segment.toml", "max_tokens = 256\n")  # our own settings file: not counted
+    write(src / "guide.md~", "editor backup\n")  # editor litter: not counted
+    report = reconcile(src, out)
+    assert report.not_read == {".rst": 2, ".txt": 1}
+    assert report.line("build").endswith("; not read: 2 .rst, 1 .txt")
+    capsys.readouterr()
+    assert run_status(out) == 0
+    text = capsys.readouterr().out
+    assert "not read:  3 (.rst 2, .txt 1)" in text and "api/queue.rst" not in text
+    assert run_status(out, verbose=True) == 0
+    listed = capsys.readouterr().out
+    assert "  api/queue.rst\n  api/stack.rst\n  notes.txt\n" in listed
+    assert run_status(out, as_json=True) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["not_read"] == {".rst": ["api/queue.rst", "api/stack.rst"], ".txt": ["notes.txt"]}

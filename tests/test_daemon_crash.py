@@ -1,4 +1,4 @@
-"""Crash safety (RELIABILITY S1): a build killed anywhere converges on the next run.
+"""Crash safety (reliability scenario "killed mid-update"): a build killed anywhere converges on the next run.
 
 A build subprocess exits at named crash points (DOCSEGMENT_CRASH_AT=<label>) or is SIGKILLed at
 random moments; the next build must leave OUT byte-identical to a fresh full build of the same
@@ -42,7 +42,8 @@ CRASH_POINTS = [
 
 def build(src: Path, out: Path, **env: str) -> subprocess.Popen[bytes]:
     environ = {k: v for k, v in os.environ.items() if not k.startswith("DOCSEGMENT_")}
-    environ.update({"DOCSEGMENT_GROUP_FILES": "7", **env})
+    # Groups of 3: every churn below spans several commits, so each crash point is reached twice.
+    environ.update({"DOCSEGMENT_GROUP_FILES": "3", **env})
     return subprocess.Popen(
         [sys.executable, "-m", "segment", "build", str(src), "-o", str(out)],
         env=environ,

@@ -1,4 +1,4 @@
-"""Parser isolation (RELIABILITY P1, P2, P4, P5): misbehaving parses cost one file, never the run.
+"""Parser isolation (reliability scenario "parser crash", "parser hang", "memory growth", "parsing off the daemon's threads"): misbehaving parses cost one file, never the run.
 
 Test hooks (DOCSEGMENT_TEST_HOOKS=1, read by the worker pool): *.crash.md calls os.abort(),
 *.segv.md reads address 0, *.hang.md spins forever, *.oom.md allocates without end.
@@ -13,7 +13,8 @@ from pathlib import Path
 import pytest
 
 from segment.daemon import read_status, reconcile
-from segment.daemon.workers import HOOKS_ENV, Task, WorkerPool, run_task
+from segment.daemon.tasks import HOOKS_ENV, Task, run_task
+from segment.daemon.workers import WorkerPool
 from segment.settings import Settings
 from tests.daemon_helpers import assert_feed_matches, chunk_files, feed, page, write
 
@@ -66,9 +67,9 @@ def test_a_worker_outlives_many_files_and_is_replaced_after_a_crash(tmp_path: Pa
     write(tmp_path / "x.crash.md", page("Crash"))
     tasks = [Task(p.name, str(p), p.name) for p in sorted(tmp_path.glob("*.md"))]
     with WorkerPool(Settings(), jobs=1) as pool:
-        outcomes = {o.path: o for o in pool.map(tasks)}
+        outcomes = {o.path: o for o in pool.outcomes(tasks)}
         assert pool.replaced == 1
-        again = list(pool.map(tasks[:1]))
+        again = list(pool.outcomes(tasks[:1]))
     pids = {o.pid for o in outcomes.values() if o.status == "ok"}
     assert outcomes["x.crash.md"].status == "crashed"
     assert len(pids) <= 2 and os.getpid() not in pids
@@ -78,7 +79,7 @@ def test_a_worker_outlives_many_files_and_is_replaced_after_a_crash(tmp_path: Pa
 def test_a_file_changed_during_its_parse_is_reported_as_changed(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    # RELIABILITY W6: re-stat after the parse; a result for bytes that moved is discarded.
+    # reliability scenario "file still being written": re-stat after the parse; a result for bytes that moved is discarded.
     path = write(tmp_path / "live.md", page("Flight logs"))
     import segment
 

@@ -2,10 +2,12 @@
 
 A driver performs a few hundred random operations on a temp tree (creates, in-place edits,
 appends, editor-style atomic saves, vim-style saves, renames, folder moves in/out/within,
-deletes, touches, same-size rewrites) while a Watcher follows. After `sync()`:
+deletes, touches, same-size rewrites) while a Watcher follows. After `catch_up()`:
 - OUT/chunks is byte-identical to a fresh full build of the final tree (0 lost, 0 stale, 0 phantom);
 - replaying changes.jsonl from 0 gives exactly the current id set, and never upserts an id that
-  is already present nor deletes one that is absent (0 duplicates).
+  is already present nor deletes one that is absent (0 duplicates);
+- an indexer that applied the feed at each catch-up, reading records as it went, holds every
+  current record exactly (locators that moved were announced by `relocate`).
 """
 
 from __future__ import annotations
@@ -21,7 +23,7 @@ import pytest
 
 from segment.daemon import Watcher, reconcile
 from segment.settings import Settings
-from tests.daemon_helpers import TOPICS, chunk_files, current_ids, page, write
+from tests.daemon_helpers import TOPICS, FeedIndexer, chunk_files, current_ids, current_records, page, write
 
 OPS = 300
 
@@ -59,6 +61,7 @@ class Driver:
                 "delete",
                 "touch",
                 "same_size",
+                "shift",
                 "mkdir_move",
                 "move_out",
                 "move_in",
@@ -102,6 +105,10 @@ class Driver:
             st = target.stat()
             target.write_bytes(bytes(data))
             os.utime(target, ns=(st.st_atime_ns, st.st_mtime_ns))
+        elif op == "shift":  # blank lines after the title: same text and ids, other line ranges
+            text = target.read_text(encoding="utf-8")
+            title, _, rest = text.partition("\n")
+            write(target, f"{title}\n\n\n{rest}")
         elif op == "mkdir_move":
             dest = self.root / f"d{self.n}"
             self.n += 1
@@ -131,6 +138,8 @@ def strict_replay(out: Path) -> dict[str, str]:
             ids[e["id"]] = e["source"]
         elif e["op"] == "delete":
             assert ids.pop(e["id"], None) is not None, f"delete of an unknown id {e}"
+        elif e["op"] == "relocate":
+            assert e["id"] in ids, f"relocate of an unknown id {e}"
     return ids
 
 
@@ -141,15 +150,25 @@ def test_watched_output_converges_to_a_fresh_build_after_random_churn(seed: int,
     for i in range(30):
         write(root / f"dir{i % 5}" / f"start{i}.md", page(f"{TOPICS[i % len(TOPICS)]} start {i}"))
     driver = Driver(root, tmp_path / "parking", rng)
+    indexer = FeedIndexer(out)  # reads each record when it applies its entry, as a user's would
     with Watcher(root, out, Settings(), jobs=2, quiet_ms=30) as watcher:
         for i in range(OPS):
             driver.step()
             if rng.random() < 0.1:
                 time.sleep(rng.choice([0.005, 0.03, 0.08]))  # let some batches run mid-churn
-            if i == OPS // 2:
-                watcher.sync(60)
-        watcher.sync(60)
+            if i % (OPS // 4) == OPS // 4 - 1:
+                watcher.catch_up(60)
+                indexer.apply()
+        watcher.catch_up(60)
+        indexer.apply()
+        for target in driver.files()[::2]:  # and move the locators of half the files at once
+            text = target.read_text(encoding="utf-8")
+            title, _, rest = text.partition("\n")
+            write(target, f"{title}\n\n\n{rest}")
+        watcher.catch_up(60)
+        indexer.apply()
         assert watcher.report.failed == []
+    assert indexer.records == current_records(out)  # every field, not only the id set
     fresh = tmp_path / "fresh"
     reconcile(root, fresh, full=True)
     assert chunk_files(out) == chunk_files(fresh)

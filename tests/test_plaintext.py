@@ -79,7 +79,9 @@ def test_underline_of_another_length_is_not_a_heading(tmp_path: Path) -> None:
     path = tmp_path / "odd.txt"
     path.write_text("Pad lights\n---\n\nThe pad lights are checked nightly.\n")
     doc = segment.parse(path)
-    assert not doc.sections and doc.title_origin is segment.tree.TitleOrigin.FILE_NAME  # no heading of its own
+    assert (
+        not doc.sections and doc.title_origin is segment.tree.TitleOrigin.FILE_NAME
+    )  # no heading of its own
 
 
 def test_binary_content_is_refused(tmp_path: Path) -> None:

@@ -1,4 +1,4 @@
-"""Text conservation (RELIABILITY P7, P9; dashboard figure 5): every visible character of a source
+"""Text conservation (reliability scenario "Markdown nesting limits", "huge paragraphs"; dashboard figure 5): every visible character of a source
 reaches some chunk, or the Document carries a warning saying what was dropped.
 
 "Visible" is judged outside our adapter: the Markdown is rendered to HTML by markdown-it-py (the
@@ -177,7 +177,7 @@ DEEP_CASES = [c for c in hostile.CASES if c.source in ("deep-quotes.md", "deep-l
 @pytest.mark.timeout(60)
 @pytest.mark.parametrize("case", DEEP_CASES, ids=lambda c: c.source)
 def test_content_past_the_nesting_limit_is_kept_and_flagged(case: hostile.Hostile) -> None:
-    # RELIABILITY P7: markdown-it drops content past maxNesting silently; ours keeps it and warns.
+    # reliability scenario "Markdown nesting limits": markdown-it drops content past maxNesting silently; ours keeps it and warns.
     doc = segment.parse_bytes(case.make(), case.source)
     chunks = list(segment.chunk(doc, Settings()))
     assert case.needle in "\n".join(c.text for c in chunks)
@@ -186,7 +186,7 @@ def test_content_past_the_nesting_limit_is_kept_and_flagged(case: hostile.Hostil
 
 @pytest.mark.timeout(60)
 def test_a_twelve_level_list_keeps_every_level() -> None:
-    # RELIABILITY P7 recipe: with the commonmark preset a 12-level list kept only h1-h9.
+    # reliability scenario "Markdown nesting limits" recipe: with the commonmark preset a 12-level list kept only h1-h9.
     text = "".join("  " * i + f"- level h{i + 1}\n" for i in range(12))
     chunks = list(segment.chunk(segment.parse_bytes(text.encode(), "levels.md"), Settings()))
     joined = "\n".join(c.text for c in chunks)
@@ -199,7 +199,7 @@ LONG_CASES = [c for c in hostile.CASES if "long" in c.tags]
 @pytest.mark.timeout(120)
 @pytest.mark.parametrize("case", LONG_CASES, ids=lambda c: c.source)
 def test_a_1_2m_character_paragraph_is_cut_under_budget_without_loss(case: hostile.Hostile) -> None:
-    # RELIABILITY P9: spaCy refuses > 1,000,000 characters (E088) and text without punctuation
+    # reliability scenario "huge paragraphs": spaCy refuses > 1,000,000 characters (E088) and text without punctuation
     # is one "sentence"; the chunks must hold the budget and concatenate back to the input.
     data = case.make()
     settings = Settings(max_tokens=512)

@@ -1,4 +1,4 @@
-"""Safe defaults and files that change under our feet (issue 6; RELIABILITY W13, W14, W15, W6).
+"""Safe defaults and files that change under our feet (issue 6; reliability scenario "symlink loops and escapes", "output inside the source", "undecodable file names", "file still being written").
 
 - files that usually hold secrets are excluded by default (Settings.exclude);
 - symlinks never lead out of the source root (checked in test_hostile_build too);
@@ -17,9 +17,9 @@ from pathlib import Path
 import pytest
 
 from segment.daemon import read_status, reconcile
+from segment.daemon.reconcile import Reconciler
 from segment.daemon.scope import Scope
-from segment.daemon.sync import Syncer
-from segment.daemon.workers import Task, run_task
+from segment.daemon.tasks import Task, run_task
 from segment.settings import Settings
 from tests import hostile
 from tests.daemon_helpers import assert_feed_matches, chunk_files, current_ids, feed, page, write
@@ -73,19 +73,19 @@ def test_chunk_paths_stay_inside_out_whatever_the_names(tmp_path: Path) -> None:
             with open(os.path.join(folder, name), "wb") as fh:
                 fh.write(hostile.good_md(name.decode("utf-8", "replace")))
     before = sorted(os.listdir(tmp_path))
-    with Syncer(src, out, Settings()) as syncer:
-        report = syncer.reconcile()
+    with Reconciler(src, out, Settings()) as reconciler:
+        report = reconciler.reconcile()
         assert report.parsed == 2 * len(names) and not report.failed
-        chunks_root = os.path.realpath(syncer.chunks)
-        for rel in syncer.store.all():
-            target = os.path.realpath(syncer.chunk_path(rel))
+        chunks_root = os.path.realpath(reconciler.layout.root)
+        for rel in reconciler.store.all():
+            target = os.path.realpath(reconciler.layout.path_of(rel))
             assert target.startswith(chunks_root + os.sep), rel
     assert sorted(os.listdir(tmp_path)) == sorted([*before, "out"])  # nothing beside SRC and OUT
     for dirpath, _, files in os.walk(os.fsencode(out / "chunks")):
         for name in files:
             with open(os.path.join(dirpath, name), "rb") as fh:
                 for line in fh:
-                    json.loads(line.decode("utf-8", "strict"))  # strict UTF-8 JSON (W15)
+                    json.loads(line.decode("utf-8", "strict"))  # strict UTF-8 JSON ("undecodable file names")
     assert_feed_matches(out)
 
 
@@ -99,7 +99,7 @@ def test_paths_outside_the_root_have_no_relative_name(tmp_path: Path) -> None:
 
 @pytest.mark.timeout(60)
 def test_output_inside_the_source_root_is_not_read_back(tmp_path: Path) -> None:
-    # RELIABILITY W14 (batch side; the watch side is in test_daemon_watch).
+    # reliability scenario "output inside the source" (batch side; the watch side is in test_daemon_watch).
     src = tmp_path / "docs"
     write(src / "guide.md", page("Pilot roles"))
     out = src / "chunks-out"

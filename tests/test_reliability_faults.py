@@ -1,7 +1,7 @@
 """Watcher faults and durability faults the existing daemon tests do not reach.
 
-RELIABILITY rows: W2 (watch limit: the inotify watch cannot be added), W12 (network file
-systems: watched by polling), S3 (fsync returns EIO), S4 (ENOSPC while writing output). Faults
+RELIABILITY rows: "watch limit reached" (watch limit: the inotify watch cannot be added), "network file system" (network file
+systems: watched by polling), "failed fsync" (fsync returns EIO), "disk full" (ENOSPC while writing output). Faults
 are injected with monkeypatch in this process (the writes happen in the daemon's own process;
 workers only parse). Every wait is on a condition with a deadline, never a fixed sleep.
 """
@@ -20,9 +20,9 @@ from watchdog.observers import Observer
 from watchdog.observers.polling import PollingObserver
 
 import segment.daemon.events as events
-import segment.daemon.watch as watch
+import segment.daemon.watcher as watch
+from segment.cli import run_build
 from segment.daemon import Watcher, read_status, reconcile
-from segment.daemon.commands import run_build
 from segment.settings import Settings
 from tests.daemon_helpers import (
     assert_feed_matches,
@@ -53,7 +53,7 @@ def docs(tmp_path: Path) -> Path:
     return root
 
 
-# -- W2: the watch limit -----------------------------------------------------------------------
+# -- "watch limit reached": the watch limit -----------------------------------------------------------------------
 
 
 class _NoWatchesLeft(Observer):  # type: ignore[misc, valid-type]
@@ -67,14 +67,14 @@ class _NoWatchesLeft(Observer):  # type: ignore[misc, valid-type]
 def test_an_exhausted_watch_limit_falls_back_to_polling_and_says_degraded(
     docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    # RELIABILITY W2, portable variant: the watch-adding call raises OSError(ENOSPC).
+    # reliability scenario "watch limit reached", portable variant: the watch-adding call raises OSError(ENOSPC).
     monkeypatch.setattr(watch, "Observer", _NoWatchesLeft)
     out = tmp_path / "out"
     with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
         assert w.loop is not None and isinstance(w.loop.observer, PollingObserver)
         assert read_status(out).degraded == "watch_limit"  # type: ignore[union-attr]
         write(docs / "seen-by-polling.md", page("Geofences", "Polling still sees new pages."))
-        w.sync(20)
+        w.catch_up(20)
         assert "seen-by-polling.md.jsonl" in chunk_files(out)
     fresh_equal(docs, out, tmp_path)
 
@@ -82,7 +82,7 @@ def test_an_exhausted_watch_limit_falls_back_to_polling_and_says_degraded(
 def test_more_folders_than_watches_is_detected_before_watching(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    # watchdog 7.1 is silent when sub-folder watches fail (RELIABILITY W2), so we count first.
+    # watchdog 7.1 is silent when sub-folder watches fail (reliability scenario "watch limit reached"), so we count first.
     for i in range(30):
         (tmp_path / f"d{i}").mkdir()
     real = Path.read_text
@@ -97,7 +97,7 @@ def test_more_folders_than_watches_is_detected_before_watching(
     assert not watch.watch_limit_exceeded(tmp_path / "d0")
 
 
-# -- W12: network file systems -------------------------------------------------------------------
+# -- "network file system": network file systems -------------------------------------------------------------------
 
 MOUNTINFO = """\
 22 1 0:21 / / rw,relatime shared:1 - ext4 /dev/sda1 rw
@@ -133,28 +133,28 @@ def test_the_file_system_type_is_read_from_mountinfo(monkeypatch: pytest.MonkeyP
 def test_a_network_file_system_is_watched_by_polling_and_still_converges(
     docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    # RELIABILITY W12: inotify does not see changes made by other hosts; poll instead.
+    # reliability scenario "network file system": inotify does not see changes made by other hosts; poll instead.
     monkeypatch.setattr(watch, "needs_polling", lambda path: True)
     monkeypatch.setattr(watch, "fs_type", lambda path: "nfs4")
     out = tmp_path / "out"
     with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
         assert w.loop is not None and isinstance(w.loop.observer, PollingObserver)
         assert read_status(out).degraded == "network_fs"  # type: ignore[union-attr]
-        # W3 under polling: an atomic save through a temp file.
+        # "editor saves by rename" under polling: an atomic save through a temp file.
         tmp = docs / ".page0.md.swp"
         write(tmp, page("Battery care 0", "Saved atomically over a network share."))
         os.replace(tmp, docs / "area0" / "page0.md")
-        # W5 under polling: many quick rewrites, the last one wins.
+        # "duplicate events" under polling: many quick rewrites, the last one wins.
         for i in range(20):
             write(docs / "area1" / "page1.md", page("Flight logs", f"Revision {i}."))
-        w.sync(20)
+        w.catch_up(20)
     texts = chunk_files(out)
     assert b"Saved atomically" in texts["area0/page0.md.jsonl"]
     assert b"Revision 19." in texts["area1/page1.md.jsonl"]
     fresh_equal(docs, out, tmp_path)
 
 
-# -- S3 / S4: failed fsync, full disk --------------------------------------------------------------
+# -- "failed fsync" / "disk full": failed fsync, full disk --------------------------------------------------------------
 
 
 def _is_output_temp(fd: object) -> bool:
@@ -191,7 +191,7 @@ def test_a_failed_fsync_or_a_full_disk_commits_nothing_and_the_next_build_conver
     call: str,
     code: int,
 ) -> None:
-    # RELIABILITY S3 (never retry a failed fsync and call the data safe) and S4 (ENOSPC).
+    # reliability scenario "failed fsync" (never retry a failed fsync and call the data safe) and "disk full" (ENOSPC).
     out = tmp_path / "out"
     assert run_build(docs, out, Settings()) == 0
     before, seq = chunk_files(out), read_status(out).last_seq  # type: ignore[union-attr]
@@ -220,7 +220,7 @@ def quick_retry(monkeypatch: pytest.MonkeyPatch) -> Iterator[None]:
 def test_a_write_error_while_watching_keeps_the_watcher_alive_and_is_retried(
     docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch, quick_retry: None
 ) -> None:
-    # RELIABILITY S3/S4 under watch: the batch is not committed, the state says so, a retry
+    # reliability scenario "failed fsync / disk full" under watch: the batch is not committed, the state says so, a retry
     # converges, and the watcher thread survives.
     out = tmp_path / "out"
     with Watcher(docs, out, Settings(), quiet_ms=QUIET_MS) as w:
@@ -232,20 +232,20 @@ def test_a_write_error_while_watching_keeps_the_watcher_alive_and_is_retried(
         status = read_status(out)
         assert status is not None and status.degraded in ("write_error", "disk_full"), status
         assert chunk_files(out) == before and temp_files(out) == []
-        w.sync(30)  # released once the retry has converged
+        w.catch_up(30)  # released once the retry has converged
         wait_for(lambda: w.loop.degraded == "")  # type: ignore[union-attr]
         assert b"disk was full" in chunk_files(out)["area2/page2.md.jsonl"]
         assert w._thread is not None and w._thread.is_alive()
     fresh_equal(docs, out, tmp_path)
 
 
-# -- S2: the order of durable writes ---------------------------------------------------------------
+# -- "power loss": the order of durable writes ---------------------------------------------------------------
 
 
 def test_each_chunk_file_is_fsynced_before_its_rename_and_its_folder_after(
     docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    # RELIABILITY S2 (pytest cannot cut power): spy on the calls. POSIX atomic replace practice:
+    # reliability scenario "power loss" (pytest cannot cut power): spy on the calls. POSIX atomic replace practice:
     # write the temp file, fsync it, rename over the target, fsync the folder.
     out = tmp_path / "out"
     calls: list[tuple[str, str]] = []
@@ -283,14 +283,14 @@ def test_each_chunk_file_is_fsynced_before_its_rename_and_its_folder_after(
     assert feed_sync > max(i for i, _ in renames)  # chunk files are durable before the feed names them
 
 
-# -- S5: readers while the writer churns; S6: a store cut in half -----------------------------------
+# -- "two writers": readers while the writer churns; "corrupt state database": a store cut in half -----------------------------------
 
 
 @pytest.mark.timeout(90)
 def test_status_readers_never_see_a_locked_database_while_the_watcher_writes(
     docs: Path, tmp_path: Path
 ) -> None:
-    # RELIABILITY S5: one writer; readers are read-only with a busy timeout.
+    # reliability scenario "two writers": one writer; readers are read-only with a busy timeout.
     out = tmp_path / "out"
     errors: list[BaseException] = []
     reads = {"n": 0}
@@ -311,8 +311,8 @@ def test_status_readers_never_see_a_locked_database_while_the_watcher_writes(
         for i in range(60):
             write(docs / "churn" / f"n{i % 15}.md", page(f"Pilot roles {i}"))
             if i % 10 == 9:
-                w.sync(30)
-        w.sync(30)
+                w.catch_up(30)
+        w.catch_up(30)
         wait_for(lambda: reads["n"] >= 200 or errors, timeout=60)
         stop.set()
         thread.join(10)
@@ -323,7 +323,7 @@ def test_status_readers_never_see_a_locked_database_while_the_watcher_writes(
 
 @pytest.mark.timeout(60)
 def test_a_store_cut_to_half_its_size_is_rebuilt_by_reconcile(docs: Path, tmp_path: Path) -> None:
-    # RELIABILITY S6, the truncation variant (garbage is covered in test_daemon_build).
+    # reliability scenario "corrupt state database", the truncation variant (garbage is covered in test_daemon_build).
     out = tmp_path / "out"
     reconcile(docs, out)
     store = out / "state.sqlite3"

@@ -1,4 +1,4 @@
-"""A real inotify queue overflow (RELIABILITY W1; dashboard figure 2).
+"""A real inotify queue overflow (reliability scenario "inotify queue overflow"; dashboard figure 2).
 
 watchman's own trick (`suspendWatchman()` in its recrawl tests): stop the watcher process with
 SIGSTOP, create 10,000 files (about 30,000 events, past the kernel's default
@@ -87,11 +87,11 @@ def test_an_inotify_queue_overflow_is_detected_and_the_output_converges(tmp_path
         seen: dict[str, Any] = {}
         while time.monotonic() < deadline:
             seen = status(out)
-            if seen.get("files") == FILES + 1 and seen.get("counters", {}).get("overflow_recrawls", 0) >= 1:
+            if seen.get("files") == FILES + 1 and seen.get("counters", {}).get("overflow_rescans", 0) >= 1:
                 break
             time.sleep(0.1)  # polling a condition with a deadline, not waiting a fixed time
         converged = time.monotonic() - resumed
-        assert seen.get("counters", {}).get("overflow_recrawls", 0) >= 1, seen
+        assert seen.get("counters", {}).get("overflow_rescans", 0) >= 1, seen
         assert seen.get("files") == FILES + 1, seen
         print(f"overflow detected; {FILES} files converged {converged:.1f} s after SIGCONT")
         proc.send_signal(signal.SIGINT)

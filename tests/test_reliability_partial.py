@@ -1,11 +1,11 @@
-"""Half-written files (RELIABILITY W6; dashboard figure 7) and an emptied source root (W9).
+"""Half-written files (reliability scenario "file still being written") and an emptied source root ("source root gone or empty").
 
-W6: a PDF arrives in 10 pieces through one open file, as a slow copy or download would write it.
-A PDF cut short often opens "fine" after MuPDF repairs it, with part of its text (P3), so a
+"file still being written": a PDF arrives in 10 pieces through one open file, as a slow copy or download would write it.
+A PDF cut short often opens "fine" after MuPDF repairs it, with part of its text ("bad or truncated PDF"), so a
 parse of a half-written copy must never reach the output. A spy thread reads the PDF's chunk
 file throughout the copy and records every version it sees.
 
-W9: a root that is emptied at once (an unmounted share leaves an empty mount point) must not
+"source root gone or empty": a root that is emptied at once (an unmounted share leaves an empty mount point) must not
 read as "every document was deleted".
 """
 
@@ -18,8 +18,8 @@ from pathlib import Path
 
 import pytest
 
+from segment.cli import run_build
 from segment.daemon import Watcher, read_status, reconcile
-from segment.daemon.commands import run_build
 from segment.settings import Settings
 from tests import hostile
 from tests.daemon_helpers import chunk_files, feed, tree_of, wait_for
@@ -61,7 +61,7 @@ def run_copy(tmp_path: Path, quiet_ms: int, pause_s: float) -> tuple[list[bytes]
         watcher.start()
         try:
             copy_slowly(src / "incoming.pdf", data, pause_s)
-            w.sync(60)
+            w.catch_up(60)
             # The spy must outlive the last write of the chunk file (a barrier released a moment
             # before the writer thread's replace would otherwise end the spy too early).
             deadline = time.monotonic() + 30
@@ -78,7 +78,7 @@ def run_copy(tmp_path: Path, quiet_ms: int, pause_s: float) -> tuple[list[bytes]
 
 @pytest.mark.timeout(120)
 def test_a_copy_faster_than_the_quiet_period_is_parsed_once_whole(tmp_path: Path) -> None:
-    # Pieces 50 ms apart under a 500 ms quiet period (the W6 recipe: 100 ms under 200 ms; the
+    # Pieces 50 ms apart under a 500 ms quiet period (the "file still being written" recipe: 100 ms under 200 ms; the
     # wider margin keeps a loaded CI machine from stretching a pause past the quiet period).
     seen, final = run_copy(tmp_path, quiet_ms=500, pause_s=0.05)
     assert seen and seen[-1] == final
@@ -92,11 +92,31 @@ def test_a_copy_slower_than_the_quiet_period_never_emits_a_partial_version(tmp_p
     assert all(version == final for version in seen), f"{len(seen)} versions seen, partial ones emitted"
 
 
+@pytest.mark.timeout(120)
+def test_a_half_written_pdf_is_pending_in_status_and_retried_within_seconds(tmp_path: Path) -> None:
+    # A copy that stopped part way: MuPDF repairs the cut PDF, so it parses, but while it is
+    # young the watcher holds it back. It is listed as pending with the reason, and retried by
+    # itself within seconds once it stops changing (no further event, no ten-minute rescan).
+    src, out = tmp_path / "docs", tmp_path / "out"
+    tree_of(2, src)
+    data = hostile.good_pdf()
+    with Watcher(src, out, Settings(), quiet_ms=50) as w:
+        (src / "incoming.pdf").write_bytes(data[: len(data) * 7 // 10])
+        w.catch_up(60)
+        status = read_status(out)
+        assert status is not None
+        assert [(s, "copy in progress" in r) for s, r, _ in status.pending] == [("incoming.pdf", True)]
+        assert "incoming.pdf.jsonl" not in chunk_files(out)
+        assert ("incoming.pdf", status.pending[0][1]) in w.report.held
+        wait_for(lambda: "incoming.pdf.jsonl" in chunk_files(out), timeout=60)
+        wait_for(lambda: read_status(out).pending == [], timeout=10)  # type: ignore[union-attr]
+
+
 @pytest.mark.timeout(60)
 def test_an_emptied_root_does_not_delete_every_chunk(
     tmp_path: Path, capsys: pytest.CaptureFixture[str]
 ) -> None:
-    # RELIABILITY W9: "more than X % of files vanish in one pass" -> keep the outputs. Here all of
+    # reliability scenario "source root gone or empty": "more than X % of files vanish in one pass" -> keep the outputs. Here all of
     # them: a build of an empty root refuses to delete, and `--full` confirms the deletion.
     src, out = tmp_path / "docs", tmp_path / "out"
     tree_of(12, src)
@@ -132,6 +152,6 @@ def test_a_root_swapped_for_an_empty_folder_pauses_the_watcher_until_the_files_a
         src.rmdir()
         os.rename(tmp_path / "unmounted", src)
         wait_for(lambda: read_status(out).degraded == "")  # type: ignore[union-attr]
-        w.sync(20)
+        w.catch_up(20)
     assert chunk_files(out) == before
     assert not [e for e in feed(out) if e["op"] == "delete"]

@@ -2,7 +2,7 @@
 
 A `segment watch` process follows rounds of 3,000 writes (300 pages rewritten 10 times each,
 about 9,000 file events a round). Its resident set size is read from /proc after each round has
-converged. A dead dispatcher whose queue keeps filling (W10) or a leak per batch would show as
+converged. A dead dispatcher whose queue keeps filling ("watcher thread died") or a leak per batch would show as
 growth from round to round; the pass bar is no more than 10 % growth between rounds, after a
 first warm-up round (imports, caches).
 """

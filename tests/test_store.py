@@ -26,7 +26,9 @@ def row(path: str, **kw: object) -> FileState:
 
 def test_rows_round_trip_including_undecodable_names(tmp_path: Path) -> None:
     store = Store.open(tmp_path)
-    odd = os.fsdecode(b"bad\xff.md")  # RELIABILITY W15: names that are not UTF-8
+    odd = os.fsdecode(
+        b"bad\xff.md"
+    )  # reliability scenario "undecodable file names": names that are not UTF-8
     with store.transaction():
         store.put(row("docs/a.md"))
         store.put(row(odd, source="bad\ufffd.md"))
@@ -66,16 +68,16 @@ def test_counters_and_last_seq_survive_reopen(tmp_path: Path) -> None:
     store = Store.open(tmp_path)
     with store.transaction():
         store.set_meta("last_seq", 41)
-        store.bump("overflow_recrawls")
+        store.bump("overflow_rescans")
     store.close()
     store = Store.open(tmp_path)
     assert store.last_seq == 41
-    assert store.meta("overflow_recrawls") == "1"
+    assert store.meta("overflow_rescans") == "1"
     store.close()
 
 
 def test_a_corrupt_store_is_moved_aside_and_started_afresh(tmp_path: Path) -> None:
-    # RELIABILITY S6: quick_check at start; the state is re-derivable, so rebuild instead of failing.
+    # reliability scenario "corrupt state database": quick_check at start; the state is re-derivable, so rebuild instead of failing.
     store = Store.open(tmp_path)
     with store.transaction():
         store.put(row("a.md"))
@@ -100,3 +102,35 @@ def test_status_reads_without_the_writer_and_reports_failures(tmp_path: Path) ->
     assert report is not None
     assert (report.files, report.chunks, report.last_seq) == (2, 3, 3)
     assert report.failed == [("b.md", "timeout", "parse took too long")]
+
+
+def test_a_version_1_store_is_migrated_in_place(tmp_path: Path) -> None:
+    # A store written before record digests and the pending table: its rows and counters are
+    # kept, the counter once named overflow_recrawls is now overflow_rescans.
+    import sqlite3
+
+    conn = sqlite3.connect(tmp_path / "state.sqlite3")
+    conn.executescript(
+        """
+        CREATE TABLE files (path BLOB PRIMARY KEY, source TEXT NOT NULL, size INTEGER NOT NULL,
+            mtime_ns INTEGER NOT NULL, ctime_ns INTEGER NOT NULL, ino INTEGER NOT NULL,
+            dev INTEGER NOT NULL, hash TEXT NOT NULL, fingerprint TEXT NOT NULL, ids TEXT NOT NULL,
+            status TEXT NOT NULL, error TEXT, failures INTEGER NOT NULL DEFAULT 0,
+            recorded_ns INTEGER NOT NULL);
+        CREATE TABLE meta (key TEXT PRIMARY KEY, value TEXT NOT NULL);
+        INSERT INTO meta VALUES ('schema', '1'), ('overflow_recrawls', '3'), ('last_seq', '7');
+        INSERT INTO files VALUES (CAST('a.md' AS BLOB), 'a.md', 1, 2, 3, 4, 5, 'h', 'fp', '["x"]',
+            'ok', NULL, 0, 6);
+        """
+    )
+    conn.commit()
+    conn.close()
+    store = Store.open(tmp_path)
+    assert not store.rebuilt
+    row = store.get("a.md")
+    assert row is not None and row.ids == ["x"] and row.digests == []
+    assert store.meta("schema") == "2" and store.last_seq == 7
+    store.close()
+    status = read_status(tmp_path)
+    assert status is not None and status.counters.get("overflow_rescans") == 3
+    assert "overflow_recrawls" not in status.counters

@@ -111,3 +111,8 @@ def names_files(pattern: str) -> bool:
     last = pattern.rstrip().rstrip("/") if not pattern.rstrip().endswith("/") else ""
     last = last.rsplit("/", 1)[-1]
     return bool(last.strip("*?")) and not last.startswith("!")
+
+
+def supported_suffixes() -> frozenset[str]:
+    """The file suffixes (lower case, with the dot) that some registered adapter reads."""
+    return SUPPORTED_SUFFIXES

@@ -12,7 +12,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 
-from segment.render import render_block
+from segment.kinds import render_block
 from segment.tokens import TokenCounter
 from segment.tree import Block, Document, Section, Table
 

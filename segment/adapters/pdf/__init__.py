@@ -214,6 +214,7 @@ def _parse_open(
     document = Document(source=source, format="pdf", title=title)
     document.properties.update(document_properties(meta))
     document.warnings.extend(warnings)
+    document.repaired = bool(doc.is_repaired)
     document.metadata.update(
         {
             "pages": doc.page_count,
