@@ -149,6 +149,27 @@ def status_command(out: Path, as_json: bool) -> None:
     raise SystemExit(run_status(out, as_json=as_json))
 
 
+@cli.command("export")
+@click.argument("out", type=click.Path(exists=True, file_okay=False, path_type=Path))
+@click.option(
+    "--parquet",
+    "parquet_dir",
+    required=True,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Folder for a Parquet dataset of every chunk, partitioned by format (format=<name>/).",
+)
+def export_command(out: Path, parquet_dir: Path) -> None:
+    """Write the chunks of the output folder OUT as a Parquet dataset (needs the `cluster` extra)."""
+    from segment.columnar import output_table, write_dataset
+
+    try:
+        table = output_table(out)
+        files = write_dataset(table, parquet_dir)
+    except SettingsError as exc:
+        raise click.UsageError(str(exc)) from exc
+    click.echo(f"{table.num_rows} chunks -> {parquet_dir} ({len(files)} files)", err=True)
+
+
 def main(argv: list[str] | None = None) -> int:
     """Entry point of the `segment` console script."""
     try:
