@@ -21,6 +21,7 @@ from collections.abc import Callable, Generator, Iterable, Iterator
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from segment.daemon.chunkfiles import CHUNKS_DIR, chunk_name, read_ids
 from segment.daemon.durable import crashpoint, fsync_dir, remove_temps, walk_files, write_if_changed
@@ -30,6 +31,9 @@ from segment.daemon.report import SyncReport
 from segment.daemon.scope import Scope, display_name
 from segment.daemon.store import FileState, StatSig, Store
 from segment.daemon.workers import Outcome, Task, WorkerPool, content_hash
+
+if TYPE_CHECKING:
+    from segment.daemon.cluster import ClusterPool
 from segment.settings import Settings
 
 log = logging.getLogger(__name__)
@@ -46,6 +50,17 @@ TRANSIENT = frozenset({"timeout", "crashed", "resource_limit", "error", "unreada
 
 Progress = Callable[[int, int], None]
 """Called with (files done, files to parse) while a reconcile parses."""
+
+
+def _executor(settings: Settings, jobs: int, patient: bool) -> WorkerPool | ClusterPool:
+    """Local worker processes, or the Dask cluster named by the `cluster` setting."""
+    if settings.cluster:
+        from segment.daemon.cluster import ClusterPool
+
+        return ClusterPool(
+            settings, settings.cluster, workers_read_files=settings.cluster_reads_files, patient=patient
+        )
+    return WorkerPool(settings, jobs)
 
 
 class Syncer:
@@ -72,7 +87,7 @@ class Syncer:
             self.feed = Feed(self.out, self.store.last_seq)
             self._recover_feed()
             self.scope = Scope(self.src, self.out, settings)
-            self.pool = WorkerPool(settings, jobs)
+            self.pool = _executor(settings, jobs, patient)
             # fsync waits on the disk: a few threads keep workers fed and let ext4 batch commits.
             self._writer = ThreadPoolExecutor(WRITER_THREADS, thread_name_prefix="docsegment-write")
         except BaseException:

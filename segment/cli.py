@@ -40,8 +40,33 @@ def settings_options(fn: F) -> F:
     return fn
 
 
+def cluster_options(fn: F) -> F:
+    """Where the per-file work runs: local worker processes, or a Dask cluster."""
+    fn = click.option(
+        "--cluster-reads-files",
+        is_flag=True,
+        default=None,
+        help="With --cluster: workers read files from the same path (shared file system).",
+    )(fn)
+    return click.option(
+        "--cluster",
+        metavar="ADDRESS",
+        help="Dask scheduler address (tcp://host:8786): parse files on its workers (cluster extra).",
+    )(fn)
+
+
 def _settings(src: Path | None, kwargs: dict[str, Any]) -> Settings:
-    keys = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", "include", "exclude")
+    keys = (
+        "max_tokens",
+        "min_tokens",
+        "overlap_tokens",
+        "tokenizer",
+        "language",
+        "include",
+        "exclude",
+        "cluster",
+        "cluster_reads_files",
+    )
     overrides = {k: kwargs.get(k) for k in keys}
     try:
         return load_settings(src, overrides)
@@ -109,6 +134,7 @@ def tree_command(file: Path) -> None:
     "--jobs", "-j", type=click.IntRange(min=1), default=1, show_default=True, help="Worker processes."
 )
 @click.option("--full", is_flag=True, help="Re-segment every file, not only what changed.")
+@cluster_options
 @settings_options
 def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) -> None:
     """Segment every supported file under SRC into OUT (incremental)."""
@@ -130,6 +156,7 @@ def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) ->
     show_default=True,
     help="Quiet period before a batch of edits is processed.",
 )
+@cluster_options
 @settings_options
 def watch_command(src: Path, out: Path, jobs: int, quiet_ms: int, **kwargs: Any) -> None:
     """Build, then keep OUT in sync with SRC until stopped (Ctrl-C)."""

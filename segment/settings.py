@@ -56,6 +56,11 @@ class Settings:
     """Wall-clock budget for parsing and segmenting one file in a worker process."""
     memory_mb: int = 2048
     """Address-space limit of a worker process, in MiB (0: no limit)."""
+    cluster: str | None = None
+    """Address of a Dask scheduler (`tcp://host:8786`): files are parsed on its workers."""
+    cluster_reads_files: bool = False
+    """With `cluster`: workers read the files from the same path (a shared file system) instead of
+    receiving their bytes from the driver."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
