@@ -143,7 +143,7 @@ def chunk_dataframes(
     size = max(1, files_per_partition)
     batches = [files[i : i + size] for i in range(0, len(files), size)] or [[]]
     _, meta = _empty(pd, pa)
-    raw = dd.from_map(  # type: ignore[no-untyped-call]
+    raw = dd.from_map(
         chunk_partition,
         batches,
         settings=settings,

@@ -18,7 +18,7 @@ from pathlib import Path
 import pytest
 
 from segment import Settings
-from segment.daemon import reconcile, read_status
+from segment.daemon import read_status, reconcile
 from tests.conftest import CORPUS, FIXTURES
 from tests.hostile import CASES, write_cases
 
