@@ -33,7 +33,12 @@ class Executor(Protocol):
 
 
 def local_executor(settings: Settings, jobs: int) -> Executor:
-    """The default executor: `jobs` supervised worker processes on this machine."""
+    """The default executor: `jobs` supervised worker processes on this machine, or the Dask
+    cluster named by the `cluster` setting (segment.daemon.cluster)."""
+    if settings.cluster:
+        from segment.daemon.cluster import ClusterPool
+
+        return ClusterPool(settings, settings.cluster, workers_read_files=settings.cluster_reads_files)
     from segment.daemon.workers import WorkerPool
 
     return WorkerPool(settings, jobs)

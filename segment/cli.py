@@ -52,9 +52,25 @@ def settings_options(fn: F) -> F:
     return fn
 
 
+def cluster_options(fn: F) -> F:
+    """Where the per-file work runs: local worker processes, or a Dask cluster."""
+    fn = click.option(
+        "--cluster-reads-files",
+        is_flag=True,
+        default=None,
+        help="With --cluster: workers read files from the same path (shared file system).",
+    )(fn)
+    return click.option(
+        "--cluster",
+        metavar="ADDRESS",
+        help="Dask scheduler address (tcp://host:8786): parse files on its workers (cluster extra).",
+    )(fn)
+
+
 def _settings(src: Path | None, kwargs: dict[str, Any]) -> Settings:
     keys: tuple[str, ...] = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", "include")
     keys += ("exclude", "notebook_outputs", "base_url", "url_layout", "properties")
+    keys += ("cluster", "cluster_reads_files")
     overrides = {k: kwargs.get(k) for k in keys}
     try:
         return load_settings(src, overrides)
@@ -129,6 +145,7 @@ def with_properties(document: Document) -> str:
     "--jobs", "-j", type=click.IntRange(min=1), default=1, show_default=True, help="Worker processes."
 )
 @click.option("--full", is_flag=True, help="Re-segment every file, not only what changed.")
+@cluster_options
 @settings_options
 def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) -> None:
     """Segment every supported file under SRC into OUT (incremental)."""
@@ -148,6 +165,7 @@ def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) ->
     show_default=True,
     help="Quiet period before a batch of edits is processed.",
 )
+@cluster_options
 @settings_options
 def watch_command(src: Path, out: Path, jobs: int, quiet_ms: int, **kwargs: Any) -> None:
     """Build, then keep OUT in sync with SRC until stopped (Ctrl-C)."""
@@ -376,6 +394,27 @@ def check_command(out: Path, src: Path | None, max_tokens: int | None, **limits:
     overrides = {"max_tokens": max_tokens} if max_tokens is not None else {}
     given = {k: v for k, v in limits.items() if v is not None}
     raise SystemExit(run_check(out, overrides, given, src=src))
+
+
+@cli.command("export")
+@click.argument("out", type=click.Path(exists=True, file_okay=False, path_type=Path))
+@click.option(
+    "--parquet",
+    "parquet_dir",
+    required=True,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Folder for a Parquet dataset of every chunk, partitioned by format (format=<name>/).",
+)
+def export_command(out: Path, parquet_dir: Path) -> None:
+    """Write the chunks of the output folder OUT as a Parquet dataset (needs the `cluster` extra)."""
+    from segment.columnar import output_table, write_dataset
+
+    try:
+        table = output_table(out)
+        files = write_dataset(table, parquet_dir)
+    except SettingsError as exc:
+        raise click.UsageError(str(exc)) from exc
+    click.echo(f"{table.num_rows} chunks -> {parquet_dir} ({len(files)} files)", err=True)
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -97,6 +97,11 @@ class Settings:
     rst_include_root: str | None = None
     """Folder whose files reStructuredText `include`, `literalinclude` and `csv-table :file:` may
     read; None (the default) reads no other file. Paths outside it are never read."""
+    cluster: str | None = None
+    """Address of a Dask scheduler (`tcp://host:8786`): files are parsed on its workers."""
+    cluster_reads_files: bool = False
+    """With `cluster`: workers read the files from the same path (a shared file system) instead of
+    receiving their bytes from the driver."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
