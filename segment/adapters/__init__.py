@@ -37,6 +37,7 @@ ADAPTERS: tuple[Adapter, ...] = (
     Adapter("markdown", (".md", ".markdown", ".mdown", ".mkd"), "segment.adapters.markdown"),
     Adapter("html", (".html", ".htm", ".xhtml"), "segment.adapters.html"),
     Adapter("pdf", (".pdf",), "segment.adapters.pdf"),
+    Adapter("mdx", (".mdx",), "segment.adapters.mdx"),
 )
 
 SUPPORTED_SUFFIXES: frozenset[str] = frozenset(s for a in ADAPTERS for s in a.suffixes)
