@@ -36,6 +36,7 @@ from segment.adapters.markdown_site import (
     admonition_label,
     container_label,
     parser_for,
+    used_in,
 )
 from segment.adapters.text import decode_text, sniff_binary
 from segment.errors import ParseError
@@ -96,7 +97,7 @@ def parse_text(text: str, doc: Document, syntax: SiteSyntax) -> Document:
     """Build `doc`'s tree from decoded Markdown text (shared with the MDX adapter)."""
     env: dict[str, Any] = {}
     try:
-        tokens = parser_for(syntax).parse(text, env)
+        tokens = parser_for(used_in(syntax, text)).parse(text, env)
     except RecursionError as exc:
         raise ParseError(doc.source, "Markdown nested too deeply to parse", status="resource_limit") from exc
     builder = _TreeBuilder(doc, text, syntax)

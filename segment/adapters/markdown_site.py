@@ -18,7 +18,7 @@ syntaxes means anything else to a CommonMark reader that a writer would mean on 
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 
 from markdown_it import MarkdownIt
@@ -66,21 +66,69 @@ class SiteSyntax:
     @classmethod
     def from_settings(cls, settings: Settings | None) -> SiteSyntax:
         """The extensions switched on in `settings` (all, without settings)."""
-        if settings is None:
-            return cls()
-        return cls(
-            admonitions=settings.markdown_admonitions,
-            tabs=settings.markdown_tabs,
-            definitions=settings.markdown_definitions,
-            footnotes=settings.markdown_footnotes,
-            tasks=settings.markdown_tasks,
-            containers=settings.markdown_containers,
-            abbreviations=settings.markdown_abbreviations,
-            attributes=settings.markdown_attributes,
-        )
+        return _syntax_of(settings)
+
+    def without_indented_code(self) -> SiteSyntax:
+        """The same extensions, indented lines not code (MDX)."""
+        return _without_indented_code(self)
 
 
-@lru_cache(maxsize=16)
+@lru_cache(maxsize=64)
+def _without_indented_code(syntax: SiteSyntax) -> SiteSyntax:
+    return replace(syntax, indented_code=False)
+
+
+@lru_cache(maxsize=64)
+def _syntax_of(settings: Settings | None) -> SiteSyntax:
+    if settings is None:
+        return SiteSyntax()
+    return SiteSyntax(
+        admonitions=settings.markdown_admonitions,
+        tabs=settings.markdown_tabs,
+        definitions=settings.markdown_definitions,
+        footnotes=settings.markdown_footnotes,
+        tasks=settings.markdown_tasks,
+        containers=settings.markdown_containers,
+        abbreviations=settings.markdown_abbreviations,
+        attributes=settings.markdown_attributes,
+    )
+
+
+_DEFINITION_MARKER = re.compile(r"^[ \t>]*[:~][ \t]+\S", re.MULTILINE)
+_TASK_MARKER = re.compile(r"\[[ xX]\] ")
+
+
+def used_in(syntax: SiteSyntax, text: str) -> SiteSyntax:
+    """`syntax` less the extensions whose marker characters `text` does not hold: the same tree
+    from a parser with fewer rules to try on every line (each rule costs time on every page)."""
+    present = (
+        "!!!" in text or "???" in text,
+        "===" in text,
+        _DEFINITION_MARKER.search(text) is not None,
+        "[^" in text or "^[" in text,
+        _TASK_MARKER.search(text) is not None,
+        ":::" in text,
+        "*[" in text,
+    )
+    return _narrowed(syntax, present)
+
+
+@lru_cache(maxsize=1024)
+def _narrowed(syntax: SiteSyntax, present: tuple[bool, ...]) -> SiteSyntax:
+    admonitions, tabs, definitions, footnotes, tasks, containers, abbreviations = present
+    return replace(
+        syntax,
+        admonitions=syntax.admonitions and admonitions,
+        tabs=syntax.tabs and tabs,
+        definitions=syntax.definitions and definitions,
+        footnotes=syntax.footnotes and footnotes,
+        tasks=syntax.tasks and tasks,
+        containers=syntax.containers and containers,
+        abbreviations=syntax.abbreviations and abbreviations,
+    )
+
+
+@lru_cache(maxsize=256)
 def parser_for(syntax: SiteSyntax) -> MarkdownIt:
     """A markdown-it parser (CommonMark + GFM tables and strikethrough + front matter) with the
     chosen extensions; built once per combination."""

@@ -18,7 +18,7 @@ from __future__ import annotations
 
 import html
 import re
-from dataclasses import replace
+from functools import lru_cache
 
 from segment.adapters.markdown import parse_text
 from segment.adapters.markdown_site import SiteSyntax
@@ -29,9 +29,10 @@ from segment.tree import Document
 MAX_TAG_CHARS = 10_000
 """A JSX tag longer than this (its attributes included) is read as text: bounds the scan."""
 
-_FENCE = re.compile(r"[ \t]*(`{3,}|~{3,})")
-_ESM = re.compile(r"(?:import|export)(?=[ \t{*])")
+_SPECIAL_LINE = re.compile(r"^(?:[ \t]*(`{3,}|~{3,})|(?:import|export)(?=[ \t{*]))", re.MULTILINE)
+_FRONT_MATTER = re.compile(r"---[ \t]*\n(?:.*\n)*?(?:---|\.\.\.)[ \t]*(?:\n|\Z)")
 _SPECIAL = re.compile(r"[`\\{<]")
+_BRACE_EVENT = re.compile(r"[{}\"'`\\]")
 _BLANK_LINE = re.compile(r"\n[ \t]*(?=\n)")
 _TAG_NAME = re.compile(r"[A-Za-z][\w.:-]*")
 _ATTRIBUTE = re.compile(r"""\s*([A-Za-z_:][\w.:-]*)(?:\s*=\s*("[^"]*"|'[^']*'|\{))?""")
@@ -46,61 +47,51 @@ def parse(data: bytes, source: str, settings: Settings | None = None) -> Documen
     sniff_binary(data, source, "MDX text")
     doc = Document(source=source, format="mdx")
     text = strip_mdx(decode_text(data, doc.warnings))
-    syntax = replace(SiteSyntax.from_settings(settings), indented_code=False)
+    syntax = SiteSyntax.from_settings(settings).without_indented_code()
     return parse_text(text, doc, syntax)
 
 
 def strip_mdx(text: str) -> str:
     """The Markdown left when the MDX layer is removed; the same number of lines."""
-    out: list[str] = []
-    prose: list[str] = []
-    fence: str | None = None
-    esm = False
-    previous_blank = True
-    lines = text.split("\n")
-    front = _front_matter_end(lines)
-    out.extend(lines[:front])
-    for line in lines[front:]:
-        blank = not line.strip()
-        if fence is not None:
-            out.append(line)
-            stripped = line.strip()
-            if stripped.startswith(fence) and not stripped.strip(fence[0]):
-                fence = None
-        elif esm:
-            out.append("")
-            esm = not blank
-        elif previous_blank and _ESM.match(line):
-            _flush(prose, out)
-            out.append("")
-            esm = True
+    front = _front_matter_end(text)
+    out: list[str] = [text[:front]]
+    prose_start = front  # where the prose not yet written begins
+    for m in _SPECIAL_LINE.finditer(text, front):
+        start = m.start()
+        if start < prose_start:
+            continue  # inside a fence or an ESM block already passed
+        line_end = text.find("\n", start)
+        line_end = len(text) if line_end == -1 else line_end
+        fence = m.group(1)
+        if fence:
+            if fence[0] == "`" and "`" in text[m.end() : line_end]:
+                continue  # CommonMark: no backtick in a backtick fence's info string
+            closing = _closing_fence(fence).search(text, line_end + 1 if line_end < len(text) else line_end)
+            end = closing.end() if closing else len(text)
+            out.append(_strip_run(text[prose_start:start]))
+            out.append(text[start:end])
         else:
-            m = _FENCE.match(line)
-            if m and not (m.group(1)[0] == "`" and "`" in line[m.end() :]):  # CommonMark: no ` in the info
-                _flush(prose, out)
-                out.append(line)
-                fence = m.group(1)
-            else:
-                prose.append(line)
-        previous_blank = blank
-    _flush(prose, out)
-    return "\n".join(out)
+            if start > front and text[text.rfind("\n", 0, start - 1) + 1 : start].strip():
+                continue  # ESM starts a block: the line before must be blank
+            blank = _BLANK_LINE.search(text, start)
+            end = blank.start() if blank else len(text)
+            out.append(_strip_run(text[prose_start:start]))
+            out.append("\n" * text.count("\n", start, end))
+        prose_start = end
+    out.append(_strip_run(text[prose_start:]))
+    return "".join(out)
 
 
-def _front_matter_end(lines: list[str]) -> int:
-    """Lines of YAML front matter at the start (left for the Markdown adapter), or 0."""
-    if not lines or lines[0].rstrip() != "---":
-        return 0
-    for k in range(1, len(lines)):
-        if lines[k].rstrip() in ("---", "..."):
-            return k + 1
-    return 0
+@lru_cache(maxsize=64)
+def _closing_fence(fence: str) -> re.Pattern[str]:
+    """A line of the fence's character only, at least as long as the opening."""
+    return re.compile(r"^[ \t]*" + re.escape(fence[0]) + "{" + str(len(fence)) + r",}[ \t]*$", re.MULTILINE)
 
 
-def _flush(prose: list[str], out: list[str]) -> None:
-    if prose:
-        out.append(_strip_run("\n".join(prose)))
-        prose.clear()
+def _front_matter_end(text: str) -> int:
+    """Length of the YAML front matter at the start (left for the Markdown adapter), or 0."""
+    m = _FRONT_MATTER.match(text)
+    return m.end() if m else 0
 
 
 def _brace_pairs(s: str) -> dict[int, int]:
@@ -109,26 +100,30 @@ def _brace_pairs(s: str) -> dict[int, int]:
     pairs: dict[int, int] = {}
     stack: list[int] = []
     blanks = [m.start() for m in _BLANK_LINE.finditer(s)]
-    next_blank = blanks.pop(0) if blanks else len(s) + 1
-    i, n = 0, len(s)
-    while i < n:
-        if i >= next_blank:
+    blanks.reverse()
+    n = len(s)
+    next_blank = blanks.pop() if blanks else n + 1
+    skip_to = 0  # past a string or an escaped character
+    for m in _BRACE_EVENT.finditer(s):
+        i = m.start()
+        if i < skip_to:
+            continue
+        while i >= next_blank:
             stack.clear()
-            next_blank = blanks.pop(0) if blanks else n + 1
+            next_blank = blanks.pop() if blanks else n + 1
         c = s[i]
         if c == "{":
             stack.append(i)
         elif c == "}":
             if stack:
                 pairs[stack.pop()] = i
-        elif c in "\"'`" and stack:
+        elif c == "\\":
+            skip_to = i + 2
+        elif stack:  # a JavaScript string inside an expression
             end = s.find(c, i + 1)
             limit = s.find("\n", i + 1) if c != "`" else next_blank
             if end != -1 and (limit == -1 or end < limit):
-                i = end
-        elif c == "\\":
-            i += 1
-        i += 1
+                skip_to = end + 1
     return pairs
 
 
