@@ -44,7 +44,7 @@ def _words(text: str) -> Counter[str]:
 
 def visible_words(markdown: str) -> Counter[str]:
     """Reference: the page rendered to HTML by markdown-it-py with mdit-py-plugins' own renderers
-    (admon, deflist, footnote, tasklists, container, front_matter), then lxml's text. Footnote
+    (admon, deflist, footnote, container, front_matter), then lxml's text. Footnote
     reference marks (`[1]` superscripts) and back-links are numbering a reader does not read as
     words; the note text itself is kept. (The content-tab rule is ours: its label renders as a
     paragraph. `{: ...}` attribute lists, which no plugin reads, are removed first: the site

@@ -158,6 +158,7 @@ class _TreeBuilder:
         self.doc = doc
         self.lines = text.split("\n")
         self.attributes = syntax.attributes
+        self.tasks = syntax.tasks
         self.sections = SectionBuilder(doc.root)
         self.stack: list[Any] = []  # open ListBlock / ListItem / Quote / Definition... containers
         self.slugs: dict[str, int] = {}
@@ -326,6 +327,10 @@ class _TreeBuilder:
     def paragraph(self, inline: Token, span: Span) -> None:
         raw, starts = inline_text_lines(inline, self.attributes)
         text = raw.strip()
+        if self.tasks and text[:4] in _TASK_MARKS and self.stack:
+            item = self.stack[-1]
+            if isinstance(item, ListItem) and not item.blocks:
+                text = _TASK_MARKS[text[:4]] + text[4:]  # `[X]` reads `[x]`
         if _ATTRIBUTES_ONLY.fullmatch(text):
             return  # `{#id .class}` alone on a line: block attributes for the generator, never shown
         if text:
@@ -379,6 +384,9 @@ _LEAF_TYPES = frozenset(
     )
 )
 """Tokens whose line map covers source text that reaches the tree."""
+
+_TASK_MARKS = {"[ ] ": "[ ] ", "[x] ": "[x] ", "[X] ": "[x] "}
+"""A task item's mark at the start of its first paragraph (GFM task list items), normalised."""
 
 _CONTAINER_OPEN = f"container_{CONTAINER}_open"
 _CONTAINER_CLOSE = f"container_{CONTAINER}_close"

@@ -15,7 +15,6 @@ _BLOCK_TAG = re.compile(
     r"</?\s*(p|div|li|ul|ol|dl|dt|dd|tr|td|th|table|thead|tbody|h[1-6]|hr|pre|blockquote|section)\b",
     re.IGNORECASE,
 )
-_TASK_BOX = '<input class="task-list-item-checkbox"'
 COLON_ATTRIBUTES = re.compile(r"[ \t]*\{:[^{}\n]*\}")
 """`{: .class #id key=value }`: a Python-Markdown / kramdown attribute list, never shown."""
 
@@ -28,8 +27,7 @@ def inline_text(inline: Token, attributes: bool = False) -> str:
 def inline_text_lines(inline: Token, attributes: bool = False) -> tuple[str, list[int]]:
     """The visible text of an inline token, and the offsets where each later source line starts.
 
-    Footnote markers and anchors are dropped; a task item's checkbox reads `[ ]` or `[x]`; with
-    `attributes`, `{: ...}` attribute lists are stripped from the text."""
+    Footnote markers and anchors are dropped; with `attributes`, `{: ...}` attribute lists are stripped from the text."""
     out: list[str] = []
     starts: list[int] = []
     size = 0
@@ -46,8 +44,6 @@ def inline_text_lines(inline: Token, attributes: bool = False) -> tuple[str, lis
             starts.append(size + 1)
         elif t == "html_inline" and _BR.fullmatch(child.content.strip()):
             piece = "\n"
-        elif t == "html_inline" and child.content.startswith(_TASK_BOX):
-            piece = "[x]" if 'checked="checked"' in child.content else "[ ]"  # the text keeps its space
         elif t == "html_inline" and _BLOCK_TAG.match(child.content):
             piece = " "  # a block-level tag inside inline text still separates words
         else:

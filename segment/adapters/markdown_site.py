@@ -7,7 +7,8 @@ syntaxes means anything else to a CommonMark reader that a writer would mean on 
 - content tabs `=== "Label"` with an indented body (our own block rule, below);
 - definition lists `Term` / `: definition` (mdit-py-plugins `deflist`);
 - footnotes `[^label]` and `[^label]: text` (mdit-py-plugins `footnote`);
-- task lists `- [ ]` / `- [x]` (mdit-py-plugins `tasklists`);
+- task lists `- [ ]` / `- [x]` (read by the tree builder: mdit-py-plugins' `tasklists` rule looks
+  back to the list's start for every item, quadratic in a long list);
 - containers `:::kind Title`, `:::kind[Title]` ... `:::` (mdit-py-plugins `container`, any kind);
 - abbreviation definitions `*[HTML]: Hypertext Markup Language` (our own block rule: the line
   vanishes; mdit-py-plugins has no rule for them);
@@ -28,7 +29,6 @@ from mdit_py_plugins.container import container_plugin
 from mdit_py_plugins.deflist import deflist_plugin
 from mdit_py_plugins.footnote import footnote_plugin
 from mdit_py_plugins.front_matter import front_matter_plugin
-from mdit_py_plugins.tasklists import tasklists_plugin
 
 from segment.settings import Settings
 
@@ -147,12 +147,12 @@ def parser_for(syntax: SiteSyntax) -> MarkdownIt:
         md.use(deflist_plugin)
     if syntax.footnotes:
         md.use(footnote_plugin)
-    if syntax.tasks:
-        md.use(tasklists_plugin)
     if syntax.containers:
         md.use(container_plugin, name=CONTAINER, validate=_is_container_opening)
     if syntax.abbreviations:
-        md.block.ruler.before("paragraph", "abbreviation", _abbreviation)
+        # Before the setext-heading rule, and ending a paragraph: otherwise that rule scans ahead
+        # to the end of a run of definition lines from each of them (quadratic).
+        md.block.ruler.before("lheading", "abbreviation", _abbreviation, {"alt": ["paragraph"]})
     return md
 
 
