@@ -212,3 +212,25 @@ def test_headings_inside_tabs_stay_in_the_tab(tmp_path: Path) -> None:
     )
     doc = segment.parse(page)
     assert [s.heading.text for _p, s in doc.walk() if s.heading] == ["Page", "After"]
+
+
+HOSTILE = {
+    "abbreviations": "*[A]: b\n",
+    "tasks": "- [ ] a\n",
+    "containers": ":::note a\n",
+    "definitions": "T\n: d\n",
+    "footnote-marks": "a[^1] ",
+    "tabs": '=== "x"\n',
+    "admonitions": "!!! note\n",
+}
+
+
+@pytest.mark.parametrize("name", sorted(HOSTILE))
+def test_long_runs_of_site_syntax_build(tmp_path: Path, name: str) -> None:
+    # 5,000 repeats: a rule that looks ahead to the end of the run from each line (quadratic)
+    # takes minutes and trips pytest-timeout; linear rules take about a second.
+    page = tmp_path / "run.md"
+    page.write_text(HOSTILE[name] * 5000 + "\n\n[^1]: note\n", encoding="utf-8")
+    chunks = segment.chunk_file(page, Settings())
+    assert all(c.format == "markdown" for c in chunks)
+    assert chunks or name == "abbreviations"  # definition lines alone: nothing a reader sees
