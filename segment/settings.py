@@ -102,6 +102,22 @@ class Settings:
     cluster_reads_files: bool = False
     """With `cluster`: workers read the files from the same path (a shared file system) instead of
     receiving their bytes from the driver."""
+    markdown_admonitions: bool = True
+    """Markdown: `!!! kind "Title"` / `??? kind` admonitions become labelled quotes."""
+    markdown_tabs: bool = True
+    """Markdown: `=== "Label"` content tabs become their label as a line, then their body."""
+    markdown_definitions: bool = True
+    """Markdown: `Term` / `: definition` lists become definition lists."""
+    markdown_footnotes: bool = True
+    """Markdown: footnote markers dropped, each note's text kept at the end of the citing section."""
+    markdown_tasks: bool = True
+    """Markdown: `- [ ]` / `- [x]` task items keep `[ ]` / `[x]` as the mark of their state."""
+    markdown_containers: bool = True
+    """Markdown: `:::kind Title` ... `:::` containers become labelled quotes."""
+    markdown_abbreviations: bool = True
+    """Markdown: `*[ABBR]: expansion` definition lines vanish."""
+    markdown_attributes: bool = True
+    """Markdown: `{: .class #id }` attribute lists stripped; a heading's `#id` sets its anchor."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
@@ -129,6 +145,7 @@ class Settings:
         for key in OUTPUT_SHAPING_ADDED:
             if getattr(self, key) != _DEFAULTS[key]:
                 data[key] = getattr(self, key)
+        data.update({f.name: getattr(self, f.name) for f in fields(self) if f.name.startswith("markdown_")})
         data["output_version"] = OUTPUT_VERSION
         if self.tokenizer:
             data["tokenizer_sha"] = _file_sha(self.tokenizer)

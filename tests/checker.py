@@ -33,7 +33,9 @@ static-site shortcode markers (`{{< ... >}}`, `{{% ... %}}`, whose inner text st
 heading ids (`## Title {#id}`) and lines holding only an attribute list (`{#id}`, applied by the
 site generator to a neighbouring block; Goldmark's block attributes, from memory) are not
 visible words; link URLs and image sources are not text in HTML,
-nor are the bodies of `<script>` and `<style>` elements.
+nor are the bodies of `<script>` and `<style>` elements. Footnote marks (`[^1]`, and the `[^1]:`
+opening a note) are not words either: sites render them as superscript numbers linking to the
+note (markdown-it-py's footnote plugin in mdit-py-plugins); the note's text is.
 """
 
 from __future__ import annotations
@@ -68,6 +70,8 @@ WORD = re.compile(r"\w+", re.UNICODE)
 FRONT_MATTER = re.compile(r"\A(?:\ufeff)?---[ \t]*\r?\n.*?\r?\n(?:---|\.\.\.)[ \t]*(?:\r?\n|\Z)", re.S)
 SHORTCODE = re.compile(r"\{\{[<%].*?[%>]\}\}", re.S)
 HEADING_ID = re.compile(r"^([ \t]{0,3}#{1,6}[ \t].*?)[ \t]*\{#[^}\n]*\}[ \t]*$", re.M)
+FOOTNOTE_MARK = re.compile(r"\[\^[^\]\s]+\]")
+FOOTNOTE_OPENER = re.compile(r"^\[\^[^\]\s]+\]:[ \t]*", re.M)
 ATTRIBUTE_LINE = re.compile(r"^[ \t]{0,3}\{[#.][\w.:-]+(?:[ \t][^}\n]*)?\}[ \t]*$", re.M)
 SENTENCE_END = re.compile(r"[.!?\u2026\u3002][\"'\u201d\u2019)\]*_`]*\s*$")
 SENTENCE_END_INSIDE = re.compile(r"[.!?\u2026\u3002][\"'\u201d\u2019)\]*_`]*\s")
@@ -147,6 +151,8 @@ def visible_text(markdown: str) -> str:
     body = SHORTCODE.sub("", body)
     body = HEADING_ID.sub(r"\1", body)
     body = ATTRIBUTE_LINE.sub("", body)
+    # A zero-width space (no word) keeps an opener's indented lines a paragraph, as in the note.
+    body = FOOTNOTE_MARK.sub("", FOOTNOTE_OPENER.sub("\u200b", body))
     html = _renderer().render(body)
     if not html.strip():
         return ""

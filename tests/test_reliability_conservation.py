@@ -7,6 +7,10 @@ browser shows is taken with lxml. Markup that sites built from these sources do 
 first: Hugo shortcode tags (gohugo.io, "Shortcodes": `{{< name >}}` / `{{% name %}}`), heading
 attribute blocks `{#id}` (Hugo/Goldmark and Pandoc heading attributes) and GitHub alert markers
 `[!NOTE]` (docs.github.com, "Basic writing and formatting syntax", Alerts: rendered as a label).
+Documentation-site dialects are rendered as their sites render them: mdit-py-plugins' admonition,
+definition-list, footnote and container rules with their own HTML (footnote reference marks and
+back-links are numbering, not text), plus our content-tab and abbreviation-line rules
+(segment/adapters/markdown_site.py); `{: ...}` attribute lists are removed first.
 The figure is the share of visible non-whitespace characters, counted per token (runs of word
 characters, single punctuation marks), casefolded, that reach the chunks (text or breadcrumb);
 a token glued to its neighbours differently (code-span backticks, table cells) counts as often as
@@ -17,15 +21,14 @@ from __future__ import annotations
 
 import re
 from collections import Counter
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import lxml.html
 import pytest
-from markdown_it import MarkdownIt
-from mdit_py_plugins.front_matter import front_matter_plugin
 
 import segment
+from segment.adapters.markdown_site import SiteSyntax, parser_for
 from segment.settings import Settings
 from tests import hostile
 from tests.conftest import CORPUS, FIXTURES
@@ -60,21 +63,23 @@ _BLOCK = {
     "ol",
     "hr",
 }
-_REFERENCE = (
-    MarkdownIt("commonmark", {"html": True, "maxNesting": 100})
-    .enable(["table", "strikethrough"])
-    .use(front_matter_plugin)
-)
+_REFERENCE = parser_for.__wrapped__(replace(SiteSyntax(), attributes=False))  # an own, uncached copy
+_REFERENCE.options["maxNesting"] = 100
+_COLON_ATTRIBUTES = re.compile(r"[ \t]*\{:[^{}\n]*\}")
 
 
 def visible_markdown(text: str) -> str:
     """The text a reader of the rendered page sees."""
     text = _ALERT.sub(r"\1", _HEADING_ATTRS.sub("", _SHORTCODE.sub("", text)))
-    html = _REFERENCE.render(text)
+    html = _REFERENCE.render(_COLON_ATTRIBUTES.sub("", text))
     if not html.strip():
         return ""
     root = lxml.html.fragment_fromstring(html, create_parent="div")
-    for hidden in root.xpath("//script|//style|//template"):
+    for hidden in (
+        root.xpath("//script|//style|//template")
+        + root.find_class("footnote-ref")
+        + root.find_class("footnote-backref")
+    ):
         hidden.drop_tree()
     for element in root.iter():
         if isinstance(element.tag, str) and element.tag in _BLOCK:

@@ -69,6 +69,7 @@ ADAPTERS: tuple[Adapter, ...] = (
     Adapter("notebook", (".ipynb",), "segment.adapters.notebook"),
     Adapter("text", (".txt",), "segment.adapters.plaintext"),
     Adapter("rst", (".rst", ".rest"), "segment.adapters.rst"),
+    Adapter("mdx", (".mdx",), "segment.adapters.mdx"),
 )
 
 FORMATS: tuple[str, ...] = tuple(a.format for a in ADAPTERS)

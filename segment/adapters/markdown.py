@@ -7,28 +7,45 @@ Choices, each visible in the chunks:
 - Hugo shortcodes (`{{< name ... >}}`, `{{% name ... %}}`) are removed before parsing; the Markdown
   they wrap stays, and their visible labels (quoted arguments, `title=`) become a line of text.
 - GitHub alerts (`> [!NOTE]`) become quotes labelled "Note"; `## Title {#id}` sets the anchor.
+- Documentation-site extensions (segment/adapters/markdown_site.py), each behind a setting:
+  admonitions and `:::` containers become labelled quotes, content tabs their label as a line
+  (ending in ":", so it opens the chunk of its body) then their body, definition lists the
+  `definitions` block, footnote markers vanish and each note's text goes to the end of the
+  section that first cites it, task items keep `[ ]` / `[x]`, abbreviation definitions vanish,
+  `{: ...}` attribute lists are stripped (a heading's `#id` sets its anchor).
+- Front matter fills the title, `metadata` and the declared `properties`
+  (segment/adapters/markdown_properties.py).
 - Anchors otherwise follow the common slug practice: lowercase, punctuation dropped, spaces to
   hyphens, `-1`, `-2`... for repeats.
 """
 
 from __future__ import annotations
 
-import html
 import re
 from typing import Any
 
-import yaml
-from markdown_it import MarkdownIt
 from markdown_it.common.utils import unescapeAll
 from markdown_it.token import Token
-from mdit_py_plugins.front_matter import front_matter_plugin
 
+from segment.adapters.markdown_inline import html_to_text, inline_text, inline_text_lines
+from segment.adapters.markdown_properties import read_front_matter
+from segment.adapters.markdown_site import (
+    CONTAINER,
+    MAX_NESTING,
+    SiteSyntax,
+    admonition_label,
+    container_label,
+    parser_for,
+    used_in,
+)
 from segment.adapters.text import decode_text, sniff_binary
 from segment.errors import ParseError
 from segment.settings import Settings
 from segment.tree import (
     Block,
     Code,
+    Definition,
+    DefinitionList,
     Document,
     Heading,
     ListBlock,
@@ -36,65 +53,57 @@ from segment.tree import (
     Paragraph,
     Quote,
     Row,
+    Section,
     SectionBuilder,
     Span,
     Table,
+    block_children,
     finish_spans,
 )
-
-MAX_NESTING = 40
-"""markdown-it's nesting limit, set deliberately. Block nesting costs a level per container and
-per paragraph (about 18 nested lists or 38 nested quotes fit), and the inline parser's time on
-hostile runs such as 100,000 `[` grows with it (1.6 s at 20, 2.6 s at 40, 5.6 s at 120). Content
-past the limit is not silently dropped: it is recovered as plain text and the document warns."""
 
 _SHORTCODE = re.compile(r"\{\{([<%])(.*?)([%>])\}\}", re.DOTALL)
 _SHORTCODE_ARG = re.compile(r'(?:(\w+)\s*=\s*)?("(?:[^"\\]|\\.)*"|`[^`]*`|\S+)')
 _LABEL_KEYS = {"title", "header", "caption", "label", "name"}
 _HEADING_ID = re.compile(r"\s*\{#([\w.:-]+)[^}]*\}\s*$")
+_HEADING_COLON_ATTRIBUTES = re.compile(r"\s*\{:([^{}]*)\}\s*$")
+_ID_ATTRIBUTE = re.compile(r"(?:^|\s)#([\w.:-]+)")
+_COLON_ATTRIBUTES_ONLY = re.compile(r"\{:[^{}\n]*\}")
 _ATTRIBUTES_ONLY = re.compile(r"\{[#.][\w.:-]+(?:\s+[^{}]*)?\}")
 _ALERT = re.compile(r"^\[!(\w+)\][ \t]*\n?")
-_COMMENT = re.compile(r"<!--.*?(-->|$)", re.DOTALL)
-_HIDDEN = re.compile(r"<(script|style|template)\b.*?(</\1\s*>|$)", re.DOTALL | re.IGNORECASE)
-_TAG = re.compile(r"<[^>]*>")
-_BR = re.compile(r"<br\s*/?>", re.IGNORECASE)
-_BLOCK_TAG = re.compile(
-    r"</?\s*(p|div|li|ul|ol|dl|dt|dd|tr|td|th|table|thead|tbody|h[1-6]|hr|pre|blockquote|section)\b",
-    re.IGNORECASE,
-)
 _SLUG_DROP = re.compile(r"[^\w\- ]", re.UNICODE)
 _MARKERS = re.compile(r"^(?:\s*(?:>+|(?:[-*+]|\d{1,9}[.)])(?=\s|$)))+\s*")
 
 
 def is_attribute_line(text: str) -> bool:
-    """A paragraph that is only a block attribute list (`{#id .class key=value}`), an instruction
-    to static site generators that never shows on the page."""
-    return bool(_ATTRIBUTES_ONLY.fullmatch(text.strip()))
+    """A paragraph that is only a block attribute list (`{#id .class key=value}`, or `{: ...}`),
+    an instruction to static site generators that never shows on the page."""
+    stripped = text.strip()
+    return bool(_ATTRIBUTES_ONLY.fullmatch(stripped) or _COLON_ATTRIBUTES_ONLY.fullmatch(stripped))
 
 
-def _parser() -> MarkdownIt:
-    md = MarkdownIt("commonmark", {"maxNesting": MAX_NESTING, "html": True})
-    md.enable(["table", "strikethrough"])
-    md.use(front_matter_plugin)
-    return md
-
-
-_MD = _parser()
-_YAML_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
-"""libyaml's safe loader when PyYAML was built with it (about 10x faster), else the Python one."""
+_MD = parser_for(SiteSyntax())
+"""The parser with every documentation-site extension on (the default settings)."""
 
 
 def parse(data: bytes, source: str, settings: Settings | None = None) -> Document:
-    """Parse Markdown bytes into a Document (no setting changes how Markdown is read)."""
+    """Parse Markdown bytes into a Document; the `markdown_*` settings choose the site extensions."""
     sniff_binary(data, source, "Markdown text")
     doc = Document(source=source, format="markdown")
-    text = decode_text(data, doc.warnings)
-    text = strip_shortcodes(text)
+    text = strip_shortcodes(decode_text(data, doc.warnings))
+    return parse_text(text, doc, SiteSyntax.from_settings(settings))
+
+
+def parse_text(text: str, doc: Document, syntax: SiteSyntax) -> Document:
+    """Build `doc`'s tree from decoded Markdown text (shared with the MDX adapter)."""
+    env: dict[str, Any] = {}
     try:
-        tokens = _MD.parse(text)
+        tokens = parser_for(used_in(syntax, text)).parse(text, env)
     except RecursionError as exc:
-        raise ParseError(source, "Markdown nested too deeply to parse", status="resource_limit") from exc
-    _TreeBuilder(doc, text).build(tokens)
+        raise ParseError(doc.source, "Markdown nested too deeply to parse", status="resource_limit") from exc
+    builder = _TreeBuilder(doc, text, syntax)
+    if env.get("footnotes", {}).get("list"):
+        builder.note_citations(tokens)
+    builder.build(tokens)
     return doc
 
 
@@ -145,19 +154,35 @@ def slugify(text: str) -> str:
 class _TreeBuilder:
     """Walks the flat token stream once, keeping a stack of open containers (no recursion)."""
 
-    def __init__(self, doc: Document, text: str) -> None:
+    def __init__(self, doc: Document, text: str, syntax: SiteSyntax) -> None:
         self.doc = doc
         self.lines = text.split("\n")
+        self.attributes = syntax.attributes
+        self.tasks = syntax.tasks
         self.sections = SectionBuilder(doc.root)
-        self.stack: list[Any] = []  # open ListBlock / ListItem / Quote / Table containers
+        self.stack: list[Any] = []  # open ListBlock / ListItem / Quote / Definition... containers
         self.slugs: dict[str, int] = {}
         self.first_heading = True
+        self.opened: list[Section] = [doc.root]  # sections in the order their headings came
+        self.citing: dict[int, int] = {}  # footnote id -> index in `opened` of its first citing section
+        self.note_id = -1  # the footnote being read
+
+    def note_citations(self, tokens: list[Token]) -> None:
+        """Where each footnote is first cited: the number of top-level headings before it."""
+        headings = 0
+        for tok in tokens:
+            if tok.type == "heading_open" and tok.level == 0:
+                headings += 1
+            elif tok.type == "inline" and tok.children:
+                for child in tok.children:
+                    if child.type == "footnote_ref":
+                        self.citing.setdefault(child.meta["id"], headings)
 
     # ----- containers ----------------------------------------------------------------------
 
     def add(self, block: Block) -> None:
         for container in reversed(self.stack):
-            if isinstance(container, (ListItem, Quote)):
+            if isinstance(container, (ListItem, Quote, Definition)):
                 container.blocks.append(block)
                 return
         self.sections.add(block)
@@ -209,6 +234,8 @@ class _TreeBuilder:
                     self.add(Paragraph(text, _span(tok)))
             elif t == "table_open":
                 i = self.table(tokens, i)
+            elif t in _SITE_TYPES:
+                i = self.site_block(tokens, i)
             i += 1
         if tokens and max(tok.level for tok in tokens) >= MAX_NESTING - 1:
             self.recover_deep(tokens)
@@ -217,30 +244,70 @@ class _TreeBuilder:
     # ----- blocks --------------------------------------------------------------------------
 
     def front_matter(self, content: str) -> None:
-        try:
-            data = yaml.load(content, Loader=_YAML_LOADER)
-        except yaml.YAMLError as exc:
-            self.doc.warnings.append(f"front matter is not valid YAML: {str(exc).splitlines()[0]}")
-            data = None
-        if isinstance(data, dict):
-            meta = {str(k): _plain(v) for k, v in data.items()}
-            title = meta.pop("title", None)
-            if isinstance(title, str) and title.strip():
-                self.doc.title = " ".join(title.split())
-            elif title is not None:
-                meta["title"] = title
-            self.doc.metadata.update(meta)
+        read_front_matter(self.doc, content)
+
+    def site_block(self, tokens: list[Token], i: int) -> int:
+        """Tokens of the documentation-site extensions; returns the index of the last one used."""
+        tok = tokens[i]
+        t = tok.type
+        if t == "admonition_open" or t == _CONTAINER_OPEN:
+            label = admonition_label(tok.info) if t == "admonition_open" else container_label(tok.info)
+            quote = Quote(label=label, span=_span(tok))
+            self.add(quote)
+            self.stack.append(quote)
+        elif t == "admonition_close" or t == _CONTAINER_CLOSE or t == "dd_close" or t == "dl_close":
+            self.stack.pop()
+        elif t == "admonition_title_open":
+            return i + 2  # the title is in the label already
+        elif t == "tab_label_open":
+            label = inline_text(tokens[i + 1], self.attributes).strip()
+            if label:
+                self.add(Paragraph(label if label.endswith(":") else label + ":", _span(tok)))
+            return i + 2
+        elif t == "dl_open":
+            definitions = DefinitionList(span=_span(tok))
+            self.add(definitions)
+            self.stack.append(definitions)
+        elif t == "dt_open":
+            term = " ".join(inline_text(tokens[i + 1], self.attributes).split())
+            definitions = self.stack[-1]
+            last = definitions.items[-1] if definitions.items else None
+            if last is not None and not last.blocks and tokens[i - 1].type == "dt_close":
+                last.terms.append(term)  # several terms for one definition
+                last.span = last.span.merge(_span(tok))
+            else:
+                definitions.items.append(Definition([term], span=_span(tok)))
+            return i + 2
+        elif t == "dd_open":
+            item = self.stack[-1].items[-1]
+            item.span = item.span.merge(_span(tok))
+            self.stack.append(item)
+        elif t == "footnote_open":
+            self.stack.append(ListItem())  # a holder for the note's blocks
+            self.note_id = tok.meta.get("id", -1) if tok.meta else -1
+        elif t == "footnote_close":
+            holder = self.stack.pop()
+            target = self.citing.get(self.note_id)
+            section = self.opened[target] if target is not None else self.sections.current
+            section.blocks.extend(_without_spans(holder.blocks))
+        return i
 
     def heading(self, open_tok: Token, inline: Token) -> None:
         level = int(open_tok.tag[1])
-        text = inline_text(inline)
+        text = inline_text(inline)  # attribute lists are read below, where they may set the anchor
         anchor: str | None = None
         m = _HEADING_ID.search(text)
         if m:
             anchor = m.group(1)
             text = text[: m.start()]
+        elif self.attributes and "{:" in text:
+            m = _HEADING_COLON_ATTRIBUTES.search(text)
+            if m:
+                id_match = _ID_ATTRIBUTE.search(m.group(1))
+                anchor = id_match.group(1) if id_match else None
+                text = text[: m.start()]
         text = " ".join(text.split())
-        if self.stack:  # a heading inside a list item or quote stays there, as text
+        if self.stack or open_tok.level > 0:  # inside a list item, quote or tab: stays there, as text
             self.add(Paragraph(text, _span(open_tok)))
             return
         if anchor is None:
@@ -250,7 +317,7 @@ class _TreeBuilder:
         if self.first_heading and self.doc.title is None and level == 1 and text:
             self.doc.title = text
         self.first_heading = False
-        self.sections.open(Heading(text, level, anchor, _span(open_tok)))
+        self.opened.append(self.sections.open(Heading(text, level, anchor, _span(open_tok))))
 
     def unique_slug(self, slug: str) -> str:
         n = self.slugs.get(slug, 0)
@@ -258,9 +325,13 @@ class _TreeBuilder:
         return slug if n == 0 else f"{slug}-{n}"
 
     def paragraph(self, inline: Token, span: Span) -> None:
-        raw, starts = inline_text_lines(inline)
+        raw, starts = inline_text_lines(inline, self.attributes)
         text = raw.strip()
-        if is_attribute_line(text):
+        if self.tasks and text[:4] in _TASK_MARKS and self.stack:
+            item = self.stack[-1]
+            if isinstance(item, ListItem) and not item.blocks:
+                text = _TASK_MARKS[text[:4]] + text[4:]  # `[X]` reads `[x]`
+        if _ATTRIBUTES_ONLY.fullmatch(text):
             return  # `{#id .class}` alone on a line: block attributes for the generator, never shown
         if text:
             lead = len(raw) - len(raw.lstrip())
@@ -282,7 +353,7 @@ class _TreeBuilder:
                 row = Row([], _span(tok))
                 (table.header if in_head else table.rows).append(row)
             elif tok.type == "inline" and row is not None:
-                row.cells.append(inline_text(tok).strip())
+                row.cells.append(inline_text(tok, self.attributes).strip())
             i += 1
         self.add(table)
         return i
@@ -307,9 +378,26 @@ class _TreeBuilder:
 
 
 _LEAF_TYPES = frozenset(
-    ("paragraph_open", "heading_open", "fence", "code_block", "html_block", "tr_open", "hr", "front_matter")
+    (
+        *("paragraph_open", "heading_open", "fence", "code_block", "html_block", "tr_open", "hr"),
+        *("front_matter", "admonition_title_open", "tab_label_open", "dt_open"),
+    )
 )
 """Tokens whose line map covers source text that reaches the tree."""
+
+_TASK_MARKS = {"[ ] ": "[ ] ", "[x] ": "[x] ", "[X] ": "[x] "}
+"""A task item's mark at the start of its first paragraph (GFM task list items), normalised."""
+
+_CONTAINER_OPEN = f"container_{CONTAINER}_open"
+_CONTAINER_CLOSE = f"container_{CONTAINER}_close"
+_SITE_TYPES = frozenset(
+    (
+        *("admonition_open", "admonition_close", "admonition_title_open", _CONTAINER_OPEN, _CONTAINER_CLOSE),
+        *("tab_label_open", "dl_open", "dt_open", "dd_open", "dd_close", "dl_close"),
+        *("footnote_open", "footnote_close"),
+    )
+)
+"""Tokens of the documentation-site extensions, handled by `_TreeBuilder.site_block`."""
 
 
 def _label_alert(quote: Quote) -> None:
@@ -324,44 +412,26 @@ def _label_alert(quote: Quote) -> None:
                 quote.blocks.pop(0)
 
 
-def inline_text(inline: Token) -> str:
-    """The visible text of an inline token's children."""
-    return inline_text_lines(inline)[0]
-
-
-def inline_text_lines(inline: Token) -> tuple[str, list[int]]:
-    """The visible text of an inline token, and the offsets where each later source line starts."""
-    out: list[str] = []
-    starts: list[int] = []
-    size = 0
-    for child in inline.children or []:
-        t = child.type
-        if t == "text" or t == "image":
-            piece = child.content
-        elif t == "code_inline":
-            piece = f"`{child.content}`"
-        elif t == "softbreak" or t == "hardbreak":
-            piece = " " if t == "softbreak" else "\n"
-            starts.append(size + 1)
-        elif t == "html_inline" and _BR.fullmatch(child.content.strip()):
-            piece = "\n"
-        elif t == "html_inline" and _BLOCK_TAG.match(child.content):
-            piece = " "  # a block-level tag inside inline text still separates words
-        else:
-            continue
-        out.append(piece)
-        size += len(piece)
-    return "".join(out), starts
-
-
-def html_to_text(raw: str) -> str:
-    """Raw HTML reduced to the text a reader sees: comments and script/style bodies dropped,
-    tags removed, entities decoded."""
-    text = _HIDDEN.sub("", _COMMENT.sub("", raw))
-    text = _BR.sub("\n", text)
-    text = html.unescape(_TAG.sub(" ", text))
-    lines = [" ".join(line.split()) for line in text.split("\n")]
-    return "\n".join(line for line in lines if line)
+def _without_spans(blocks: list[Block]) -> list[Block]:
+    """Footnote blocks moved to the end of the section citing them: their source lines (at the
+    end of the file) would make the section's chunks jump back and forth, so they carry none."""
+    stack = list(blocks)
+    while stack:
+        block = stack.pop()
+        block.span = Span()
+        if isinstance(block, Paragraph):
+            block.line_starts = []
+        elif isinstance(block, Table):
+            for row in [*block.header, *block.rows]:
+                row.span = Span()
+        elif isinstance(block, ListBlock):
+            for item in block.items:
+                item.span = Span()
+        elif isinstance(block, DefinitionList):
+            for entry in block.items:
+                entry.span = Span()
+        stack.extend(block_children(block))
+    return blocks
 
 
 def _code_lines(content: str) -> list[str]:
@@ -375,14 +445,3 @@ def _span(tok: Token) -> Span:
     if tok.map:
         return Span(lines=(tok.map[0] + 1, max(tok.map[1], tok.map[0] + 1)))
     return Span()
-
-
-def _plain(value: Any) -> Any:
-    """Front-matter values as JSON-safe data (dates become ISO strings)."""
-    if isinstance(value, dict):
-        return {str(k): _plain(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    if value is None or isinstance(value, (str, int, float, bool)):
-        return value
-    return str(value)
