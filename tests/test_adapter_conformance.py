@@ -160,6 +160,15 @@ SAMPLES: dict[str, Sample] = {
     "notebook": Sample(
         ".ipynb", lambda: _notebook(MARKDOWN.decode()), lambda: _notebook("> " * 10_000 + "deep")
     ),
+    "mdx": Sample(
+        ".mdx",
+        lambda: (
+            b'import Tabs from "@theme/Tabs";\n\n'
+            + MARKDOWN
+            + b'\n<Tabs><TabItem label="Linux">\n\nRun it.\n\n</TabItem></Tabs>\n'
+        ),
+        lambda: ("> " * 10_000 + "deep\n").encode(),
+    ),
     "text": Sample(".txt", lambda: TEXT, lambda: b"".join(b"  " * i + b"- deep\n" for i in range(5_000))),
 }
 

@@ -341,21 +341,21 @@ def test_files_no_adapter_reads_are_counted_by_suffix(
     # summary and `segment status` say so, so nobody wonders why it produced nothing.
     src, out = tmp_path / "docs", tmp_path / "out"
     write(src / "guide.md", page("Battery care"))
-    write(src / "api" / "queue.rst", "Queue\n=====\n\nA first-in, first-out queue.\n")
-    write(src / "api" / "stack.rst", "Stack\n=====\n\nLast in, first out.\n")
-    write(src / "notes.txt", "plain text\n")
+    write(src / "api" / "queue.adoc", "Queue\n=====\n\nA first-in, first-out queue.\n")
+    write(src / "api" / "stack.adoc", "Stack\n=====\n\nLast in, first out.\n")
+    write(src / "notes.docx", "plain text\n")
     write(src / "segment.toml", "max_tokens = 256\n")  # our own settings file: not counted
     write(src / "guide.md~", "editor backup\n")  # editor litter: not counted
     report = reconcile(src, out)
-    assert report.not_read == {".rst": 2, ".txt": 1}
-    assert report.line("build").endswith("; not read: 2 .rst, 1 .txt")
+    assert report.not_read == {".adoc": 2, ".docx": 1}
+    assert report.line("build").endswith("; not read: 2 .adoc, 1 .docx")
     capsys.readouterr()
     assert run_status(out) == 0
     text = capsys.readouterr().out
-    assert "not read:  3 (.rst 2, .txt 1)" in text and "api/queue.rst" not in text
+    assert "not read:  3 (.adoc 2, .docx 1)" in text and "api/queue.adoc" not in text
     assert run_status(out, verbose=True) == 0
     listed = capsys.readouterr().out
-    assert "  api/queue.rst\n  api/stack.rst\n  notes.txt\n" in listed
+    assert "  api/queue.adoc\n  api/stack.adoc\n  notes.docx\n" in listed
     assert run_status(out, as_json=True) == 0
     data = json.loads(capsys.readouterr().out)
-    assert data["not_read"] == {".rst": ["api/queue.rst", "api/stack.rst"], ".txt": ["notes.txt"]}
+    assert data["not_read"] == {".adoc": ["api/queue.adoc", "api/stack.adoc"], ".docx": ["notes.docx"]}

@@ -116,7 +116,7 @@ def test_tabs_and_definitions_stay_whole(path: Path) -> None:
 
 
 def _first_line(block: object) -> str:
-    from segment.render import render_block
+    from segment.kinds import render_block
 
     return render_block(block).split("\n")[0]  # type: ignore[arg-type]
 
