@@ -35,7 +35,7 @@ WORD = re.compile(r"\w+")
 
 
 def _chunks(path: Path, settings: Settings = SETTINGS) -> list[segment.Chunk]:
-    return segment.chunk_file(path, settings)
+    return segment.chunk_file(path, settings, source=path.name)
 
 
 def _words(text: str) -> Counter[str]:

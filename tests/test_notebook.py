@@ -52,7 +52,7 @@ def test_tree_matches_golden(path: Path) -> None:
 
 @pytest.mark.parametrize("path", CASES, ids=[p.stem for p in CASES])
 def test_chunks_match_golden(path: Path) -> None:
-    chunks = segment.chunk_file(path, SETTINGS)
+    chunks = segment.chunk_file(path, SETTINGS, source=path.name)
     check_golden(path.with_suffix(".chunks.jsonl"), "".join(c.to_json() + "\n" for c in chunks))
 
 
