@@ -138,10 +138,12 @@ class Reconciler:
                 len(rows),
             )
         if rows and not on_disk and not full:
+            why = (
+                "the include patterns match none of them" if self.settings.include else "an unmounted share?"
+            )
             raise SourceEmpty(
                 f"{self.src}: source folder holds none of the {len(rows)} files in the output "
-                "(an unmounted share?); nothing was deleted. A full build (--full) accepts "
-                "that they are gone"
+                f"({why}); nothing was deleted. A full build (--full) accepts that they are gone"
             )
         gone_held = set(self.held) - set(on_disk)
         report = self._pass(on_disk, rows, force=full, progress=progress, gone_held=gone_held)

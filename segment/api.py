@@ -31,7 +31,7 @@ def read_source(path: str | Path, settings: Settings | None = None) -> bytes:
     except IsADirectoryError as exc:
         raise ParseError(str(path), "is a directory", status="unreadable") from exc
     except FileNotFoundError as exc:
-        raise ParseError(str(path), "file vanished before it could be read", status="missing") from exc
+        raise ParseError(str(path), "no such file", status="missing") from exc
     except OSError as exc:
         raise ParseError(str(path), f"cannot read: {exc.strerror or exc}", status="unreadable") from exc
 

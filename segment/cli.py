@@ -13,6 +13,7 @@ import signal
 import sys
 import threading
 from collections.abc import Callable
+from dataclasses import fields
 from pathlib import Path
 from types import FrameType
 from typing import Any, TypeVar
@@ -21,11 +22,20 @@ import click
 
 from segment.api import chunk, parse
 from segment.errors import SegmentError, SettingsError
-from segment.settings import Settings, load_settings
+from segment.settings import Settings, check_settings, find_config, load_settings
 from segment.tree import Document, pretty
 
 F = TypeVar("F", bound=Callable[..., Any])
 log = logging.getLogger("segment")
+
+
+def config_option() -> Callable[[F], F]:
+    """`--config PATH`: a settings file instead of the `segment.toml` found for the sources."""
+    return click.option(
+        "--config",
+        type=click.Path(dir_okay=False, path_type=Path),
+        help="Settings file to use instead of the segment.toml found beside the sources.",
+    )
 
 
 def settings_options(fn: F) -> F:
@@ -36,8 +46,36 @@ def settings_options(fn: F) -> F:
         click.option("--overlap-tokens", type=int, help="Trailing sentences repeated in the next chunk [0]."),
         click.option("--tokenizer", type=click.Path(dir_okay=False), help="tokenizer.json for exact counts."),
         click.option("--language", help="spaCy language code for sentence splitting [en]."),
-        click.option("--include", multiple=True, help="Only files matching this gitignore-style pattern."),
-        click.option("--exclude", multiple=True, help="Skip files matching this gitignore-style pattern."),
+        click.option(
+            "--budget-unit",
+            type=click.Choice(["tokens", "characters"]),
+            help="What the budget counts: tokens, or characters (about four a token) [tokens].",
+        ),
+        click.option(
+            "--include", multiple=True, help="Only files matching this gitignore-style pattern (repeatable)."
+        ),
+        click.option(
+            "--exclude", multiple=True, help="Skip files matching this gitignore-style pattern (repeatable)."
+        ),
+        click.option("--max-file-bytes", type=int, help="Refuse larger files (resource_limit) [64 MiB]."),
+        click.option("--max-pages", type=int, help="Refuse PDFs with more pages (resource_limit) [5000]."),
+        click.option("--timeout-s", type=float, help="Wall-clock seconds for one file in a worker [120]."),
+        click.option("--memory-mb", type=int, help="Address-space limit of a worker, MiB; 0: none [2048]."),
+        click.option(
+            "--heading-line",
+            type=click.Choice(["off", "path", "title"]),
+            help="First line of every chunk: its heading path (after the title) [off].",
+        ),
+        click.option(
+            "--markdown-headings/--no-markdown-headings",
+            default=None,
+            help="Write heading lines in chunk text as `## Title` [off].",
+        ),
+        click.option(
+            "--pdf-keep-contents/--no-pdf-keep-contents",
+            default=None,
+            help="Keep PDF contents and index pages as chunks [left out].",
+        ),
         click.option(
             "--notebook-outputs/--no-notebook-outputs",
             default=None,
@@ -45,7 +83,10 @@ def settings_options(fn: F) -> F:
         ),
         click.option("--base-url", help="Where the site is published; chunks then get a `url`."),
         click.option("--url-layout", help="html, folder, or a template with {path} {stem} {dir} [html]."),
-        click.option("--properties", multiple=True, help="Keep only these property keys (patterns) [*]."),
+        click.option(
+            "--properties", multiple=True, help="Keep only these property keys (patterns; repeatable) [*]."
+        ),
+        config_option(),
     ]
     for option in reversed(options):
         fn = option(fn)
@@ -67,13 +108,26 @@ def cluster_options(fn: F) -> F:
     )(fn)
 
 
-def _settings(src: Path | None, kwargs: dict[str, Any]) -> Settings:
-    keys: tuple[str, ...] = ("max_tokens", "min_tokens", "overlap_tokens", "tokenizer", "language", "include")
-    keys += ("exclude", "notebook_outputs", "base_url", "url_layout", "properties")
-    keys += ("cluster", "cluster_reads_files")
-    overrides = {k: kwargs.get(k) for k in keys}
+SETTING_NAMES = frozenset(f.name for f in fields(Settings))
+
+
+def _load(src: Path | None, kwargs: dict[str, Any], *, near: Path | None = None) -> Settings:
+    """Settings from the flags given, over the settings file: `--config`, else `segment.toml` in
+    SRC, else (with `near`) the first `segment.toml` from that folder upward; checked whole."""
+    overrides = {k: v for k, v in kwargs.items() if k in SETTING_NAMES}
+    config: Path | None = kwargs.get("config")
+    if config is None and src is None and near is not None:
+        config = find_config(near)
+    settings = load_settings(src, overrides, config=config)
+    check_settings(settings)
+    return settings
+
+
+def _settings(src: Path | None, kwargs: dict[str, Any], *, near: Path | None = None) -> Settings:
+    """`_load`, once, before any file is read: a bad value exits 2 naming the setting, and
+    nothing is written and no file is marked failed."""
     try:
-        return load_settings(src, overrides)
+        return _load(src, kwargs, near=near)
     except SettingsError as exc:
         raise click.UsageError(str(exc)) from exc
 
@@ -98,10 +152,21 @@ def cli(verbose: int) -> None:
 @click.argument("files", nargs=-1, required=True, type=click.Path(path_type=Path))
 @settings_options
 def chunks_command(files: tuple[Path, ...], **kwargs: Any) -> None:
-    """Print the chunks of FILES as JSON Lines on stdout."""
-    settings = _settings(None, kwargs)
+    """Print the chunks of FILES as JSON Lines on stdout.
+
+    Each file is cut with the settings `segment build` would use for it: the first segment.toml
+    from its folder upward (or --config), then the flags. All settings are checked before the
+    first file is read."""
+    per_file: dict[Path, Settings] = {}
+    for path in files:
+        per_file[path] = _settings(None, kwargs, near=path.parent)
     failed = 0
     for path in files:
+        if path.is_dir():
+            failed += 1
+            click.echo(f"error: {path}: is a folder; use `segment build {path} -o OUT` for a tree", err=True)
+            continue
+        settings = per_file[path]
         try:
             lines = [c.to_json() for c in chunk(parse(path, settings, source=path.as_posix()), settings)]
         except SegmentError as exc:
@@ -116,10 +181,15 @@ def chunks_command(files: tuple[Path, ...], **kwargs: Any) -> None:
 
 @cli.command("tree")
 @click.argument("file", type=click.Path(path_type=Path))
-def tree_command(file: Path) -> None:
-    """Print the common tree of FILE (headings, blocks, source spans)."""
+@config_option()
+def tree_command(file: Path, config: Path | None) -> None:
+    """Print the common tree of FILE (headings, blocks, source spans) and its properties."""
+    settings = _settings(None, {"config": config}, near=file.parent)
+    if file.is_dir():
+        click.echo(f"error: {file}: is a folder; `segment tree` shows one file", err=True)
+        raise SystemExit(1)
     try:
-        click.echo(with_properties(parse(file, source=file.as_posix())), nl=False)
+        click.echo(with_properties(parse(file, settings, source=file.as_posix())), nl=False)
     except SegmentError as exc:
         report(exc)
         raise SystemExit(1) from exc
@@ -156,8 +226,16 @@ def build_command(src: Path, out: Path, jobs: int, full: bool, **kwargs: Any) ->
 
 @cli.command("watch")
 @click.argument("src", type=click.Path(exists=True, file_okay=False, path_type=Path))
-@click.option("-o", "--out", required=True, type=click.Path(file_okay=False, path_type=Path))
-@click.option("--jobs", "-j", type=click.IntRange(min=1), default=1, show_default=True)
+@click.option(
+    "-o",
+    "--out",
+    required=True,
+    type=click.Path(file_okay=False, path_type=Path),
+    help="Output folder (chunks/, changes.jsonl, state.sqlite3).",
+)
+@click.option(
+    "--jobs", "-j", type=click.IntRange(min=1), default=1, show_default=True, help="Worker processes."
+)
 @click.option(
     "--quiet-ms",
     type=click.IntRange(min=0),
@@ -171,7 +249,7 @@ def watch_command(src: Path, out: Path, jobs: int, quiet_ms: int, **kwargs: Any)
     """Build, then keep OUT in sync with SRC until stopped (Ctrl-C)."""
     settings = _settings(src, kwargs)
     raise SystemExit(
-        run_watch(src, out, settings, jobs=jobs, quiet_ms=quiet_ms, reload=lambda: _settings(src, kwargs))
+        run_watch(src, out, settings, jobs=jobs, quiet_ms=quiet_ms, reload=lambda: _load(src, kwargs))
     )
 
 
@@ -228,6 +306,9 @@ def run_build(
         click.echo(f"Error: {exc}", err=True)
         return 1
     daemon_log.info("%s", report.line("build"))
+    if settings.include and report.scanned == 0:
+        patterns = ", ".join(settings.include)
+        click.echo(f"warning: {src}: no file matches the include patterns ({patterns})", err=True)
     state = read_status(out)
     if state is not None and state.failed:
         for source, status, reason in state.failed:

@@ -81,7 +81,9 @@ class Segmenter:
 
     def __init__(self, settings: Settings, counter: AnyCounter | None = None) -> None:
         self.settings = settings
-        self.counter = counter_for(settings.tokenizer) if counter is None else as_counter(counter)
+        self.counter = (
+            counter_for(settings.tokenizer, settings.budget_unit) if counter is None else as_counter(counter)
+        )
         self.splitter = splitter(self.counter, settings.language)
         self.budget = settings.max_tokens - settings.overlap_tokens
         self._key = 0

@@ -118,12 +118,27 @@ class Settings:
     """Markdown: `*[ABBR]: expansion` definition lines vanish."""
     markdown_attributes: bool = True
     """Markdown: `{: .class #id }` attribute lists stripped; a heading's `#id` sets its anchor."""
+    budget_unit: str = "tokens"
+    """What `max_tokens`, `min_tokens` and `overlap_tokens` count: `tokens` (the estimator or
+    `tokenizer`) or `characters` (for services that limit characters; a common rule of thumb is
+    about four characters a token)."""
 
     def __post_init__(self) -> None:
         if self.max_tokens < 16:
             raise SettingsError(f"max_tokens must be at least 16, got {self.max_tokens}")
         if self.min_tokens < 0:
             raise SettingsError(f"min_tokens must be 0 or more, got {self.min_tokens}")
+        for name in ("max_file_bytes", "max_pages", "timeout_s"):
+            if getattr(self, name) <= 0:
+                raise SettingsError(f"{name} must be above 0, got {getattr(self, name)}")
+        if self.memory_mb < 0:
+            raise SettingsError(f"memory_mb must be 0 (no limit) or more, got {self.memory_mb}")
+        if self.budget_unit not in BUDGET_UNITS:
+            raise SettingsError(
+                f"budget_unit must be one of {', '.join(BUDGET_UNITS)}, got {self.budget_unit!r}"
+            )
+        if self.budget_unit == "characters" and self.tokenizer:
+            raise SettingsError("budget_unit = characters counts characters: a tokenizer has no use with it")
         if not 0 <= self.overlap_tokens < self.max_tokens // 2:
             raise SettingsError(
                 f"overlap_tokens must be between 0 and half of max_tokens, got {self.overlap_tokens}"
@@ -159,10 +174,13 @@ class Settings:
         return {k: list(v) if isinstance(v, tuple) else v for k, v in asdict(self).items()}
 
 
+BUDGET_UNITS = ("tokens", "characters")
+"""Values of `Settings.budget_unit`."""
+
 HEADING_LINE_VALUES = ("off", "path", "title")
 """Values of `Settings.heading_line`."""
 
-OUTPUT_SHAPING_ADDED = ("heading_line", "markdown_headings", "pdf_keep_contents")
+OUTPUT_SHAPING_ADDED = ("heading_line", "markdown_headings", "pdf_keep_contents", "budget_unit")
 """Fields that change chunks, added after the first fingerprinted ones (see `fingerprint`)."""
 
 _DEFAULTS: dict[str, Any] = {f.name: f.default for f in fields(Settings)}
@@ -175,14 +193,23 @@ def _file_sha(path: str) -> str:
         return "missing"
 
 
-def load_settings(src: Path | None = None, overrides: dict[str, Any] | None = None) -> Settings:
-    """Defaults, then `segment.toml` in `src` (if a folder holding one), then `overrides`.
+def load_settings(
+    src: Path | None = None, overrides: dict[str, Any] | None = None, *, config: Path | None = None
+) -> Settings:
+    """Defaults, then a settings file, then `overrides`.
+
+    The settings file is `config` when given (it must exist), else `segment.toml` in `src` (if a
+    folder holding one).
 
     Overrides whose value is None are ignored, so unset command-line flags leave the file's value.
     `exclude` patterns from the file and the overrides are added to the default exclusions.
     """
     values: dict[str, Any] = {}
-    if src is not None and src.is_dir() and (src / CONFIG_NAME).is_file():
+    if config is not None:
+        if not Path(config).is_file():
+            raise SettingsError(f"{config}: no such settings file")
+        values.update(_read_toml(Path(config)))
+    elif src is not None and src.is_dir() and (src / CONFIG_NAME).is_file():
         values.update(_read_toml(src / CONFIG_NAME))
     extra_exclude = tuple(values.pop("exclude", ()))
     for key, value in (overrides or {}).items():
@@ -192,7 +219,12 @@ def load_settings(src: Path | None = None, overrides: dict[str, Any] | None = No
             values[key] = value
     # Exclusions add to the defaults (secrets stay out); `!pattern` re-includes, gitignore-style.
     values["exclude"] = DEFAULT_EXCLUDE + extra_exclude
-    return coerce(values, origin="settings")
+    settings = coerce(values, origin="settings")
+    if "min_tokens" in values and settings.min_tokens > settings.max_tokens:  # the default is capped
+        raise SettingsError(
+            f"min_tokens ({settings.min_tokens}) must not be above max_tokens ({settings.max_tokens})"
+        )
+    return settings
 
 
 def _read_toml(path: Path) -> dict[str, Any]:
@@ -230,8 +262,12 @@ def coerce_dict(values: dict[str, Any], origin: str) -> dict[str, Any]:
             if not isinstance(value, (list, tuple)) or not all(isinstance(v, str) for v in value):
                 raise SettingsError(f"{origin}: {key} must be a list of patterns")
             value = tuple(value)
-        elif isinstance(default, bool) or key == "tokenizer":
-            pass
+        elif isinstance(default, bool):
+            if not isinstance(value, bool):
+                raise SettingsError(f"{origin}: {key} must be true or false, got {value!r}")
+        elif default is None or isinstance(default, str):
+            if value is not None and not isinstance(value, str):
+                raise SettingsError(f"{origin}: {key} must be a string, got {value!r}")
         elif isinstance(default, int):
             if isinstance(value, bool) or not isinstance(value, int):
                 raise SettingsError(f"{origin}: {key} must be a whole number, got {value!r}")
@@ -266,3 +302,27 @@ def read_table(src: Path | None, name: str) -> dict[str, Any]:
     if not isinstance(table, dict):
         raise SettingsError(f"{path}: [{name}] must be a table")
     return dict(table)
+
+
+def find_config(start: Path) -> Path | None:
+    """The first `segment.toml` in `start` or a folder above it (as `segment build` would read
+    it for a tree rooted there), or None."""
+    folder = Path(start).resolve()
+    for candidate in (folder, *folder.parents):
+        if (candidate / CONFIG_NAME).is_file():
+            return candidate / CONFIG_NAME
+    return None
+
+
+def check_settings(settings: Settings) -> None:
+    """What `Settings` cannot check cheaply on its own, checked once before any file is read:
+    the spaCy language exists and the tokenizer file loads. Raises SettingsError naming it."""
+    from segment.tokens import counter_for
+
+    try:
+        import spacy.util
+
+        spacy.util.get_lang_class(settings.language)
+    except (ImportError, KeyError, ValueError) as exc:
+        raise SettingsError(f"language: {settings.language!r} is not a language spaCy knows") from exc
+    counter_for(settings.tokenizer, settings.budget_unit)  # raises SettingsError for a bad file

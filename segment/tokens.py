@@ -135,8 +135,21 @@ def is_additive(counter: TokenCounter) -> bool:
 
 
 @lru_cache(maxsize=8)
-def counter_for(tokenizer: str | None) -> TokenCounter:
-    """The counter a `tokenizer` setting names: None for the estimator, else a tokenizer.json path."""
+class CharacterCounter:
+    """Counts characters: for budgets a service states in characters (`budget_unit = characters`)."""
+
+    name = "characters"
+
+    def count(self, text: str) -> int:
+        """The number of characters (code points) of `text`."""
+        return len(text)
+
+
+def counter_for(tokenizer: str | None, unit: str = "tokens") -> TokenCounter:
+    """The counter the settings name: characters for `budget_unit = characters`; else the
+    estimator, or a tokenizer.json path."""
+    if unit == "characters":
+        return CharacterCounter()
     if tokenizer is None or tokenizer == "estimate":
         return EstimateCounter()
     return TokenizerFileCounter(tokenizer)

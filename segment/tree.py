@@ -314,7 +314,8 @@ def pretty(document: Document) -> str:
         if isinstance(node, Section):
             if node.heading is not None:
                 h = node.heading
-                out.append(f"{pad}section h{h.level} {h.text!r} #{h.anchor} {span_text(h.span)}")
+                anchor = f" #{h.anchor}" if h.anchor else ""
+                out.append(f"{pad}section h{h.level} {h.text!r}{anchor} {span_text(h.span)}")
             else:
                 out.append(f"{pad}root {span_text(node.span)}")
             children: list[object] = [*node.blocks, *node.children]

@@ -131,7 +131,7 @@ def compare(output: Output, flats: Iterable[FlatDocument] | None = None) -> Comp
 
     `flats` are the documents already parsed again (`flat_documents`), to parse them only once.
     """
-    counter = counter_for(output.settings.tokenizer)
+    counter = counter_for(output.settings.tokenizer, output.settings.budget_unit)
     overlap = sliding_overlap(output)
     fixed, sliding = ChunkingFigures("fixed windows"), ChunkingFigures(f"sliding windows (overlap {overlap})")
     fixed_tokens: list[int] = []
@@ -183,7 +183,7 @@ def evaluate_queries(
     output: Output, questions: list[Question], flats: Iterable[FlatDocument] | None = None
 ) -> list[RetrievalFigures]:
     """Recall and MRR of ours, fixed windows and sliding windows on the user's questions."""
-    counter = counter_for(output.settings.tokenizer)
+    counter = counter_for(output.settings.tokenizer, output.settings.budget_unit)
     overlap = sliding_overlap(output)
     fixed: list[Passage] = []
     sliding: list[Passage] = []
