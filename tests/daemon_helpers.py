@@ -15,7 +15,7 @@ TOPICS = ["Battery care", "Flight logs", "Firmware updates", "Geofences", "Pilot
 
 
 def page(title: str, *paragraphs: str) -> str:
-    """A small Markdown page of the invented Northwind Fleet docs."""
+    """A small Markdown page of the invented Corvane Fleet docs."""
     body = "\n\n".join(paragraphs or (f"{title} keeps the fleet flying. Check it every morning.",))
     return f"# {title}\n\n{body}\n"
 

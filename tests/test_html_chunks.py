@@ -88,7 +88,7 @@ def test_demo_page_chunks(path: Path, budget: int) -> None:
         "Privacy",
         "Service status",
         "API reference",
-        "Northwind Fleet docs",
+        "Corvane Fleet docs",
         "Home",
         "Up\n",
         "‹ Errors",

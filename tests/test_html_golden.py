@@ -81,7 +81,7 @@ def test_heading_permalinks_and_anchors() -> None:
 
 def test_title_from_title_element_when_no_h1() -> None:
     assert _doc("title-only.html").title == "Release notes 3.2"
-    # With an h1 the first h1's text is the title, not <title> ("Dock firmware | Northwind...").
+    # With an h1 the first h1's text is the title, not <title> ("Dock firmware | Corvane...").
     assert _doc("boilerplate.html").title == "Dock firmware"
 
 

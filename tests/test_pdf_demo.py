@@ -27,7 +27,7 @@ def test_outline_names_and_levels_every_heading(data: bytes) -> None:
     parsed = parse_pdf(data, DEMO.name)
     got = [(s.heading.level, s.heading.text) for _, s in parsed.walk() if s.heading]
     assert got == toc
-    assert parsed.title == "Northwind Fleet Operations Guide"
+    assert parsed.title == "Corvane Fleet Operations Guide"
 
 
 def test_fonts_alone_find_the_same_headings(data: bytes) -> None:

@@ -95,7 +95,7 @@ def test_contents_leader_is_not_a_page_number() -> None:
 def test_running_heads_with_changing_numbers_and_alternation() -> None:
     pages = []
     for n in range(1, 9):
-        head = "Northwind Fleet Manual" if n % 2 else "Chapter 2. Docks"
+        head = "Corvane Fleet Manual" if n % 2 else "Chapter 2. Docks"
         pages.append(
             [
                 line(head, 72, 30, 300, page=n),
