@@ -41,3 +41,11 @@ def test_readme_starts_with_the_two_fresh_machine_commands() -> None:
     assert "pip install '.[test]'" in blocks[1] and "pytest" in blocks[1]
     ci = (ROOT / ".ci" / "run").read_text()
     assert blocks[1].strip() in ci, ".ci/run must run exactly the README's test command"
+
+
+def test_the_readme_status_table_lists_every_failure_status() -> None:
+    from segment.daemon.vocabulary import FileStatus
+
+    table = README[README.index("| status | meaning |") :].split("\n\n", 1)[0]
+    listed = set(re.findall(r"^\| `([a-z_]+)` \|", table, re.MULTILINE))
+    assert listed == {status.value for status in FileStatus if status.failed}
