@@ -20,7 +20,7 @@ import sys
 from pathlib import Path
 
 import segment
-from segment.adapters import adapter_for, is_supported
+from segment.adapters import FORMATS, adapter_for, is_supported
 from segment.adapters.pdf import parse_pdf
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -60,7 +60,12 @@ def snapshot(path: Path, out: object) -> None:
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     ap.add_argument("output", type=Path)
-    ap.add_argument("--formats", default="markdown,html,pdf", help="comma-separated: markdown,html,pdf")
+    ap.add_argument(
+        "--formats",
+        default="markdown,html,pdf,rst,notebook,mdx",
+        help=f"comma-separated, of {','.join(FORMATS)} (text is left out by default: the fixtures' "
+        "golden .tree.txt files would count as sources)",
+    )
     args = ap.parse_args(argv)
     paths = documents(set(args.formats.split(",")))
     failed = 0

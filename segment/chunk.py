@@ -13,7 +13,7 @@ _ENCODER = json.JSONEncoder(ensure_ascii=False, separators=(",", ":"))
 ID_VERSION = "1"
 """Bumped when the id recipe changes, so every id changes with it."""
 
-OUTPUT_VERSION = "2026.12.1"
+OUTPUT_VERSION = "2026.12.3"
 """Bumped when parsing or segmentation changes what chunks a file gets: part of the settings
 fingerprint, so an upgraded daemon re-segments files built by an older version."""
 
