@@ -61,13 +61,16 @@ def admonition_label(el: etree._Element) -> tuple[str | None, etree._Element | N
 
 
 def box_label(kind: str | None, title: str | None) -> str | None:
-    """ "Warning: Mind the lid" from ("warning", "Mind the lid"); a title equal to the kind, or
-    missing, gives "Warning"; a title without a kind is the label as it is."""
+    """ "Warning: Mind the lid" from ("warning", "Mind the lid"); a missing title, or one equal to
+    the kind, gives "Warning"; a title that is the kind with punctuation ("Caution!", as docutils
+    writes it) is the label as written; a title without a kind is the label as it is."""
     if not kind:
         return title or None
     name = kind.capitalize()
     if not title or title.casefold() == kind.casefold():
         return name
+    if title.rstrip("!.:").casefold() == kind.casefold():
+        return title
     return f"{name}: {title}"
 
 
