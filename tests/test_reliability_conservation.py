@@ -165,7 +165,7 @@ def visible_rst(path: Path) -> str:
     html = docutils.core.publish_string(
         source,
         source_path=str(path),
-        writer_name="html5",
+        writer="html5",
         settings_overrides={
             "report_level": 5,
             "halt_level": 5,
