@@ -2,8 +2,11 @@
 
 Each `Hostile` case is one file: its name (bytes, so undecodable names are possible), its
 content, and what a build must make of it: chunks holding a given text (`expect="ok"`), or one
-of the failure statuses in `statuses`. The cases follow ../shared/RELIABILITY.md P3 and P6-P10
-and W15; the PDF faults are made with pymupdf itself, as P3's recipe says.
+of the failure statuses in `statuses`; `absent` is text that must never reach the chunks. The
+cases follow the reliability scenarios "bad PDFs", "event before the write finishes", "deep
+HTML", "Markdown nesting", "quadratic Markdown", "huge paragraphs", "encodings" and "odd file
+names" (docs/reliability.md), and give each newer format (reStructuredText, notebooks, MDX, plain
+text) its own bad inputs; the PDF faults are made with pymupdf itself.
 
 Things that are not file contents (symlinks, a file that vanishes, an unreadable file) are made
 by the helpers at the bottom, since they need a real folder.
@@ -11,6 +14,7 @@ by the helpers at the bottom, since they need a real folder.
 
 from __future__ import annotations
 
+import json
 import os
 import random
 from collections.abc import Callable
@@ -39,6 +43,9 @@ class Hostile:
     """Text that must reach the chunks of an `ok` case ("" when it may have no chunks)."""
     why: str = ""
     tags: frozenset[str] = field(default_factory=frozenset)
+    absent: str = ""
+    """Text that must never reach the chunks ("" when there is none), e.g. a file the source
+    tried to include, or a notebook output."""
 
     @property
     def source(self) -> str:
@@ -84,7 +91,7 @@ def good_pdf(pages: int = 12) -> bytes:
 
 
 def cut_pdf(share: float) -> bytes:
-    """The good PDF cut after `share` of its bytes (a copy still in progress, W6)."""
+    """The good PDF cut after `share` of its bytes (a copy still in progress: the "event before the write finishes" scenario)."""
     data = good_pdf()
     return data[: int(len(data) * share)]
 
@@ -121,13 +128,98 @@ def random_bytes(n: int, seed: int = 6) -> bytes:
     return random.Random(seed).randbytes(n)
 
 
+# -- notebooks, reStructuredText ------------------------------------------------------------------
+
+NEEDLE_OUTPUT = "OUTPUT-BYTES-NEVER-CHUNKED "
+"""The text of the huge notebook output; outputs are off by default, so none may be chunked."""
+PASSWD_LINE = "root:x:0:0:"
+"""The start of /etc/passwd's first line (its usual form, from memory: passwd(5))."""
+
+
+def notebook(cells: list[dict[str, object]]) -> bytes:
+    """A format 4.5 notebook (cell ids required from 4.5 on: nbformat's v4.5 schema)."""
+    return json.dumps(
+        {
+            "nbformat": 4,
+            "nbformat_minor": 5,
+            "metadata": {
+                "kernelspec": {"name": "python3", "language": "python", "display_name": "Python 3"},
+                "language_info": {"name": "python"},
+            },
+            "cells": cells,
+        }
+    ).encode()
+
+
+def markdown_cell(n: int, source: str) -> dict[str, object]:
+    return {"cell_type": "markdown", "id": f"m{n}", "metadata": {}, "source": source}
+
+
+def code_cell(n: int, source: str, outputs: list[dict[str, object]] | None = None) -> dict[str, object]:
+    return {
+        "cell_type": "code",
+        "id": f"c{n}",
+        "metadata": {},
+        "execution_count": n,
+        "source": source,
+        "outputs": outputs or [],
+    }
+
+
+def good_notebook(label: str) -> bytes:
+    """A small good notebook: a heading cell, a text cell, a code cell."""
+    return notebook(
+        [
+            markdown_cell(1, f"# Fleet notebook {label}\n\n{GOOD_TEXT} for {label}."),
+            code_cell(2, "packs = 12\nprint(packs)"),
+        ]
+    )
+
+
+def good_rst(label: str) -> bytes:
+    """A small good reStructuredText page."""
+    return (
+        f"Fleet page {label}\n{'=' * (11 + len(label))}\n\n{GOOD_TEXT} for {label}.\n\n"
+        "Storage\n-------\n\nKeep spare packs in the fire cabinet.\n"
+    ).encode()
+
+
+def huge_output_notebook() -> bytes:
+    """A notebook whose one code cell has a 50 MB stream output."""
+    text = NEEDLE_OUTPUT * (50_000_000 // len(NEEDLE_OUTPUT))
+    output: dict[str, object] = {"output_type": "stream", "name": "stdout", "text": text}
+    return notebook([markdown_cell(1, f"# Telemetry dump\n\n{DEEP}"), code_cell(2, "dump()", [output])])
+
+
+def many_cells_notebook(n: int = 100_000) -> bytes:
+    """A notebook of `n` cells, text and code taking turns; the last cell holds the needle."""
+    cells = [code_cell(i, f"x = {i}") if i % 2 else markdown_cell(i, f"Cell {i}.") for i in range(n - 1)]
+    return notebook([*cells, markdown_cell(n, DEEP)])
+
+
+def rst_quote_bomb(levels: int = 10_000) -> bytes:
+    """`levels` nested block quotes: each paragraph indented one column more than the last
+    (the reStructuredText specification: an indented text block is a block quote)."""
+    body = "".join(" " * i + f"Level {i}.\n\n" for i in range(levels))
+    return ("Quotes\n======\n\n" + body + " " * levels + DEEP + "\n").encode()
+
+
+UNKNOWN_DIRECTIVE_END = "body line 29999 of the directive"
+
+
+def rst_unknown_directive() -> bytes:
+    """An unknown directive with a body of about 1 MB."""
+    body = "".join(f"   body line {i} of the directive\n" for i in range(30_000))
+    return (f"Unknown\n=======\n\n{GOOD_TEXT}.\n\n.. frobnicate:: argument\n\n{body}\nAfter it.\n").encode()
+
+
 # -- the corpus ---------------------------------------------------------------------------------
 
 PDF_FAIL = frozenset({"corrupt"})
 DEEP = "deepest words here"
 
 CASES: tuple[Hostile, ...] = (
-    # PDFs (RELIABILITY P3, W6)
+    # Bad PDFs, and PDFs cut while a copy is still in progress
     *(
         Hostile(
             f"cut-{int(s * 100)}.pdf".encode(),
@@ -207,7 +299,7 @@ CASES: tuple[Hostile, ...] = (
     Hostile(b"empty.pdf", lambda: b"", "failed", frozenset({"empty"}), why="0 bytes"),
     Hostile(b"empty.md", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
     Hostile(b"empty.html", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
-    # Deep nesting (P6, P7)
+    # Deep HTML and Markdown nesting
     Hostile(
         b"deep-divs.html",
         lambda: b"<div>" * 100_000 + DEEP.encode() + b"</div>" * 100_000,
@@ -229,7 +321,7 @@ CASES: tuple[Hostile, ...] = (
         needle=DEEP,
         why="10,000 nested list items",
     ),
-    # markdown-it's quadratic-prone runs (P8), 100k characters each
+    # Quadratic Markdown: markdown-it's quadratic-prone runs, 100k characters each
     *(
         Hostile(
             f"run-{label}.md".encode(),
@@ -247,7 +339,7 @@ CASES: tuple[Hostile, ...] = (
             ("link-open", "[a](b "),
         )
     ),
-    # 1.2M-character paragraphs (P9)
+    # Huge paragraphs: 1.2M characters each
     Hostile(
         b"para-sentences.md",
         lambda: (("The drone returns to its dock. " * 40_000)[:1_200_000] + "\n").encode(),
@@ -264,7 +356,7 @@ CASES: tuple[Hostile, ...] = (
         why="1.2M characters, no punctuation",
         tags=frozenset({"long"}),
     ),
-    # Encodings and bytes (P10)
+    # Encodings and bytes
     Hostile(
         b"cp1252.md",
         lambda: b"# Crew\xe2 notes\n\nThe pilot\x92s log \x96 kept daily.\n",
@@ -293,7 +385,7 @@ CASES: tuple[Hostile, ...] = (
         needle="pilot\u2019s log",
         why="declared windows-1252 HTML",
     ),
-    # Odd names (W15)
+    # Odd file names
     Hostile(
         b"bad\xffname.md", lambda: good_md("undecodable"), "ok", needle=GOOD_TEXT, why="byte 0xff in the name"
     ),
@@ -302,6 +394,92 @@ CASES: tuple[Hostile, ...] = (
     Hostile(b"n" * 252 + b".md", lambda: good_md("long name"), "ok", needle=GOOD_TEXT, why="255-byte name"),
     Hostile(b"..md", lambda: good_md("dots"), "ok", needle=GOOD_TEXT, why="a name of dots"),
     Hostile(b"-rf .md", lambda: good_md("dash"), "ok", needle=GOOD_TEXT, why="leading dash and space"),
+    # reStructuredText: nesting, includes, unknown directives
+    Hostile(
+        b"quote-bomb.rst",
+        rst_quote_bomb,
+        "ok",
+        needle=DEEP,
+        why="10,000 nested block quotes (50 MB of indentation)",
+        tags=frozenset({"big"}),
+    ),
+    Hostile(
+        b"include-passwd.rst",
+        lambda: f"Accounts\n========\n\n{GOOD_TEXT}.\n\n.. include:: /etc/passwd\n".encode(),
+        "ok",
+        needle=GOOD_TEXT,
+        why="an include of /etc/passwd: never read",
+        absent=PASSWD_LINE,
+    ),
+    Hostile(
+        b"unknown-directive.rst",
+        rst_unknown_directive,
+        "ok",
+        needle=UNKNOWN_DIRECTIVE_END,
+        why="an unknown directive with a 1 MB body: kept as text",
+    ),
+    Hostile(b"empty.rst", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
+    # Notebooks: not JSON, not a notebook, too big, too many cells
+    Hostile(
+        b"truncated.ipynb",
+        lambda: good_notebook("truncated")[:60],
+        "failed",
+        frozenset({"corrupt"}),
+        why="truncated JSON",
+    ),
+    Hostile(
+        b"huge-output.ipynb",
+        huge_output_notebook,
+        "ok",
+        needle=DEEP,
+        why="a 50 MB stream output: outputs never reach the chunks",
+        tags=frozenset({"big"}),
+        absent=NEEDLE_OUTPUT.strip(),
+    ),
+    Hostile(
+        b"many-cells.ipynb",
+        many_cells_notebook,
+        "ok",
+        needle=DEEP,
+        why="100,000 cells",
+        tags=frozenset({"big"}),
+    ),
+    Hostile(
+        b"image.ipynb",
+        lambda: b"\x89PNG\r\n\x1a\n" + random_bytes(4_000, 12),
+        "failed",
+        frozenset({"corrupt"}),
+        why="PNG bytes named .ipynb",
+    ),
+    Hostile(b"empty.ipynb", lambda: b"", "failed", frozenset({"corrupt", "empty"}), why="0 bytes"),
+    # MDX: JSX left open
+    Hostile(
+        b"unbalanced.mdx",
+        lambda: (
+            f'# Setup\n\n<Tabs>\n<TabItem label="Linux">\n\n{DEEP}\n\n<div className="note">\n\n'
+            "Run the installer.\n\n<Steps>\n"
+        ).encode(),
+        "ok",
+        needle=DEEP,
+        why="JSX elements opened and never closed",
+    ),
+    Hostile(b"empty.mdx", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
+    # Plain text: binary bytes, a legacy code page
+    Hostile(b"empty.txt", lambda: b"", "ok", why="0 bytes: no chunks, no error"),
+    Hostile(
+        b"binary.txt",
+        lambda: random_bytes(20_000, 13) + b"\x00" * 16,
+        "failed",
+        frozenset({"corrupt"}),
+        why="binary bytes named .txt",
+    ),
+    Hostile(
+        b"cp1252.txt",
+        lambda: b"Crew notes\n==========\n\nThe pilot\x92s log \x96 kept daily at the caf\xe9.\n",
+        "ok",
+        needle="pilot\u2019s log \u2013 kept daily at the caf\u00e9",
+        why="Windows-1252 bytes in a .txt",
+    ),
 )
 
 
@@ -324,7 +502,22 @@ GOOD_FILES: dict[str, Callable[[], bytes]] = {
     "good/battery.md": lambda: good_md("battery"),
     "good/storage.html": lambda: good_html("storage"),
     "good/procedures.pdf": good_pdf,
+    "good/charging.rst": lambda: good_rst("charging"),
+    "good/telemetry.ipynb": lambda: good_notebook("telemetry"),
+    "good/setup.mdx": lambda: b"import Tabs from './tabs'\n\n" + good_md("setup"),
+    "good/notes.txt": lambda: good_md("notes"),
 }
+
+
+def good_for(name: bytes, label: str) -> bytes:
+    """A good file of the format the name's suffix selects."""
+    if name.endswith(b".pdf"):
+        return good_pdf()
+    if name.endswith(b".ipynb"):
+        return good_notebook(label)
+    if name.endswith(b".rst"):
+        return good_rst(label)
+    return good_md(label)
 
 
 def write_cases(root: Path, cases: tuple[Hostile, ...] = CASES, prefix: str = "") -> dict[bytes, Hostile]:

@@ -1,7 +1,8 @@
 """The hostile corpus through the library alone (`segment.parse_bytes` + `segment.chunk`).
 
-Every case ends in chunks or a SegmentError naming the file with a status; nothing else escapes.
-Cut PDFs (RELIABILITY P3/W6): MuPDF repairs many cuts and reports every page it can rebuild, so
+Every case ends in chunks or a SegmentError naming the file with a status; nothing else escapes,
+and no text a case marks as absent (an included /etc/passwd, a notebook output) reaches a chunk.
+Cut PDFs (the scenarios "bad PDFs" and "event before the write finishes"): MuPDF repairs many cuts and reports every page it can rebuild, so
 "opened" does not mean "whole": each cut that opens must carry the `repaired` warning, and its
 text must be a part of the whole file's text, never more.
 """
@@ -17,7 +18,7 @@ from tests import hostile
 FAST = [c for c in hostile.CASES if not ({"quadratic", "long"} & c.tags)]
 
 
-@pytest.mark.timeout(60)
+@pytest.mark.timeout(120)
 @pytest.mark.parametrize("case", FAST, ids=lambda c: c.source.encode("unicode_escape").decode()[:40])
 def test_each_case_gives_chunks_or_a_clear_error(case: hostile.Hostile) -> None:
     try:
@@ -30,8 +31,11 @@ def test_each_case_gives_chunks_or_a_clear_error(case: hostile.Hostile) -> None:
         assert exc.status in case.statuses and exc.source == case.source and exc.reason.strip()
         return
     assert case.expect == "ok", f"{case.source} ({case.why}) should have failed"
+    texts = "\n".join(c.text for c in chunks)
     if case.needle:
-        assert case.needle in "\n".join(c.text for c in chunks)
+        assert case.needle in texts, f"{case.source} ({case.why}): text lost"
+    if case.absent:
+        assert case.absent not in texts, f"{case.source} ({case.why}): {case.absent!r} reached the chunks"
 
 
 CUTS = [c for c in hostile.CASES if "cut" in c.tags]
