@@ -234,3 +234,11 @@ def test_odd_input_gives_chunks_or_a_clear_error(data: bytes) -> None:
         list(segment.chunk(doc))
     except segment.SegmentError as exc:
         assert exc.status and exc.source == "odd.rst" and exc.reason.strip()
+
+
+def test_a_page_header_is_left_out_with_a_warning_that_counts_its_words() -> None:
+    # docutils' `header` directive: page chrome, like a PDF's running heads; text conservation
+    # needs the warning to account for it.
+    doc = segment.parse_bytes(b".. header:: Corvane manual, draft\n\nTitle\n=====\n\nBody text.\n", "h.rst")
+    assert "page header/footer left out: 3 words" in doc.warnings
+    assert all("draft" not in c.text for c in segment.chunk(doc))

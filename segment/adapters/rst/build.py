@@ -141,6 +141,12 @@ class TreeBuilder:
         if isinstance(node, nodes.Text):
             text = " ".join(node.astext().split())  # astext resolves docutils' escape markers
             return [Paragraph(text=text)] if text else []
+        if isinstance(node, nodes.decoration) and node.astext().strip():
+            # Page header and footer (`.. header::`, `.. footer::`): page chrome, like a PDF's
+            # running heads, so left out, but never silently.
+            words = len(node.astext().split())
+            self.doc.warnings.append(f"page header/footer left out: {words} words")
+            return []
         if not isinstance(node, nodes.Element) or isinstance(node, _SKIP):
             return []
         container = isinstance(
