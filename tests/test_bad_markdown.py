@@ -1,9 +1,9 @@
 """Bad input named `.md`: each file gets chunks or a clear error naming it, never a traceback or a hang.
 
-The cases follow ../shared/RELIABILITY.md: P7 (markdown-it's nesting limit silently drops deeper
-content, so deep nesting must keep its text), P9 (spaCy refuses text over 1,000,000 characters and
-text without punctuation is one "sentence": a hard fallback must cut it), P10 (a CP-1252 byte in a
-"UTF-8" file must not kill the run). Hangs are caught by pytest-timeout (marks below), not by
+The reliability scenarios: Markdown nesting (markdown-it's nesting limit silently drops deeper
+content, so deep nesting must keep its text), huge paragraphs (spaCy refuses text over 1,000,000
+characters and text without punctuation is one "sentence": a hard fallback must cut it), encodings
+(a CP-1252 byte in a "UTF-8" file must not kill the run). Hangs are caught by pytest-timeout (marks below), not by
 timing asserts. Content sniffing of binary data: the magic numbers are those of the file formats'
 own specifications (PNG: RFC 2083 section 3.1; ELF: the System V ABI), written from memory.
 """
@@ -126,7 +126,7 @@ def test_empty_file_gives_no_chunks(tmp_path: Path) -> None:
             assert all(c.text.strip() for c in result), f"{name}: an empty chunk"
 
 
-# ----- deep nesting: 10,000 levels (RELIABILITY P7) -------------------------------------------
+# ----- Markdown nesting: 10,000 levels ---------------------------------------------------------
 
 DEEPEST = "deepest words here"
 DEEP: dict[str, tuple[bytes, str]] = {
@@ -159,7 +159,7 @@ def test_deep_nesting_keeps_its_text_or_fails_clearly(tmp_path: Path, name: str)
     assert deepest in text, "content past the nesting limit was dropped"
 
 
-# ----- one 20 MB line (RELIABILITY P9) --------------------------------------------------------
+# ----- huge paragraphs: one 20 MB line -------------------------------------------------------
 
 SIZE = 20_000_000
 LONG_LINES: dict[str, Callable[[], bytes]] = {

@@ -59,7 +59,7 @@ def test_a_second_build_of_an_unchanged_tree_re_segments_nothing_and_says_so(
 
 
 def test_touching_every_file_re_segments_nothing(src: Path, tmp_path: Path) -> None:
-    # RELIABILITY (c) 6: `touch` every file: 0 re-parses and 0 changed chunks.
+    # Idempotence: `touch` every file: 0 re-parses and 0 changed chunks.
     out = tmp_path / "out"
     reconcile(src, out)
     for path in src.rglob("*.md"):

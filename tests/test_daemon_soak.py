@@ -1,4 +1,4 @@
-"""Convergence under churn (RELIABILITY (c) 1): random edits while watching, then compare.
+"""Convergence under churn: random edits while watching, then compare.
 
 A driver performs a few hundred random operations on a temp tree (creates, in-place edits,
 appends, editor-style atomic saves, vim-style saves, renames, folder moves in/out/within,

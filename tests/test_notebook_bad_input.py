@@ -1,5 +1,5 @@
 """Bad input named `.ipynb`: chunks or a clear error naming the file, never a traceback or a hang
-(../shared/RELIABILITY.md: corrupt and truncated files, huge inputs). Hangs are caught by
+(reliability scenarios: corrupt and truncated files, huge inputs). Hangs are caught by
 pytest-timeout, not by timing asserts. Notebooks are written with nbformat's v4 API."""
 
 from __future__ import annotations

@@ -1,6 +1,6 @@
 """Watcher faults and durability faults the existing daemon tests do not reach.
 
-RELIABILITY rows: "watch limit reached" (watch limit: the inotify watch cannot be added), "network file system" (network file
+Reliability scenarios: "watch limit reached" (watch limit: the inotify watch cannot be added), "network file system" (network file
 systems: watched by polling), "failed fsync" (fsync returns EIO), "disk full" (ENOSPC while writing output). Faults
 are injected with monkeypatch in this process (the writes happen in the daemon's own process;
 workers only parse). Every wait is on a condition with a deadline, never a fixed sleep.

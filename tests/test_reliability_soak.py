@@ -1,4 +1,4 @@
-"""Resource soak (RELIABILITY dashboard figure 11): the daemon's memory does not keep growing.
+"""Resource soak: the daemon's memory does not keep growing.
 
 A `segment watch` process follows rounds of 3,000 writes (300 pages rewritten 10 times each,
 about 9,000 file events a round). Its resident set size is read from /proc after each round has
