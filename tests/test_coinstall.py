@@ -66,7 +66,8 @@ def test_docsegment_and_python_daemon_work_in_one_environment(tmp_path: Path) ->
         [str(python), "-c", "import sysconfig; print(sysconfig.get_paths()['purelib'])"]
     ).stdout.strip()
     Path(site, "parent-env.pth").write_text(sysconfig.get_paths()["purelib"] + "\n")
-    env = {**os.environ, "PIP_DISABLE_PIP_VERSION_CHECK": "1"}
+    # Nothing of the checkout on the path: imports must come from the new venv alone.
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"} | {"PIP_DISABLE_PIP_VERSION_CHECK": "1"}
     wheel_dir = tmp_path / "wheel"
     built = _run(  # built by this environment's setuptools, as a build front end would
         [
