@@ -65,7 +65,6 @@ def test_docsegment_and_python_daemon_work_in_one_environment(tmp_path: Path) ->
     site = _run(
         [str(python), "-c", "import sysconfig; print(sysconfig.get_paths()['purelib'])"]
     ).stdout.strip()
-    Path(site, "parent-env.pth").write_text(sysconfig.get_paths()["purelib"] + "\n")
     # Nothing of the checkout on the path: imports must come from the new venv alone.
     env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"} | {"PIP_DISABLE_PIP_VERSION_CHECK": "1"}
     wheel_dir = tmp_path / "wheel"
@@ -88,8 +87,11 @@ def test_docsegment_and_python_daemon_work_in_one_environment(tmp_path: Path) ->
     installed = _run([str(python), "-m", "pip", "install", "--no-deps", str(wheel)], env=env)
     assert installed.returncode == 0, installed.stderr[-2000:]
     daemon_lib = _run([str(python), "-m", "pip", "install", "--no-deps", "python-daemon"], env=env)
+    # Only now the parent's packages join the path (after the venv's own site-packages), so pip
+    # above saw neither its docsegment nor its python-daemon as already installed.
+    Path(site, "parent-env.pth").write_text(sysconfig.get_paths()["purelib"] + "\n")
     if daemon_lib.returncode != 0:  # no registry: the parent environment's copy is on the path
-        assert _run([str(python), "-c", "import daemon.daemon"]).returncode == 0
+        assert _run([str(python), "-c", "import daemon.daemon"], env=env).returncode == 0
 
     src = tmp_path / "docs"
     src.mkdir()
