@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import hashlib
 import json
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, fields
 from typing import Any
 
 _ENCODER = json.JSONEncoder(ensure_ascii=False, separators=(",", ":"))
@@ -88,23 +88,7 @@ class Chunk:
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> Chunk:
         """Inverse of `to_dict`; unknown keys go to `extra`."""
-        fixed = {
-            "id",
-            "source",
-            "format",
-            "seq",
-            "breadcrumb",
-            "text",
-            "tokens",
-            "blocks",
-            "lines",
-            "pages",
-            "anchor",
-            "oversize",
-            "cells",
-            "url",
-            "properties",
-        }
+        fixed = {f.name for f in fields(cls)} - {"extra"}
         return cls(
             id=data["id"],
             source=data["source"],
