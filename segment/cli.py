@@ -27,7 +27,7 @@ from segment.cli_options import (
 )
 from segment.cli_output import check_command, export_command, report_command
 from segment.errors import SegmentError
-from segment.settings import Settings
+from segment.settings import Settings, find_config
 from segment.tree import Document, pretty
 
 __all__ = ["SETTING_NAMES", "cli", "main", "run_build", "run_status", "run_watch"]
@@ -55,9 +55,13 @@ def chunks_command(files: tuple[Path, ...], **kwargs: Any) -> None:
     Each file is cut with the settings `segment build` would use for it: the first segment.toml
     from its folder upward (or --config), then the flags. All settings are checked before the
     first file is read."""
+    per_config: dict[Path | None, Settings] = {}  # loaded and checked once per settings file
     per_file: dict[Path, Settings] = {}
     for path in files:
-        per_file[path] = _settings(None, kwargs, near=path.parent)
+        config = kwargs.get("config") or find_config(path.parent)
+        if config not in per_config:
+            per_config[config] = _settings(None, {**kwargs, "config": config})
+        per_file[path] = per_config[config]
     failed = 0
     for path in files:
         if path.is_dir():
