@@ -24,8 +24,8 @@ import os
 import threading
 import time
 import uuid
-from collections.abc import Callable, Generator, Iterable
-from typing import Any
+from collections.abc import Callable, Generator, Iterable, Sized
+from typing import Any, NamedTuple
 
 from segment.daemon.isolated import IsolatedParser, ParseResult
 from segment.daemon.store import StatSig
@@ -36,9 +36,30 @@ from segment.settings import Settings
 
 log = logging.getLogger(__name__)
 
-IN_FLIGHT_PER_THREAD = 4
-"""Tasks kept submitted per worker thread: enough to keep workers busy, few enough that a large
-tree's bytes never pile up in the scheduler's memory."""
+IN_FLIGHT_PER_THREAD = 2
+"""Batches kept submitted per worker thread: one running and one waiting, so a worker never idles
+while its next batch travels, and a large tree's bytes never pile up in the scheduler's memory."""
+
+BATCHES_PER_THREAD = 4
+"""Each batch takes at most this share of what is left per worker thread (guided scheduling):
+batches are large while much is left and shrink to single files at the end, so the workers
+finish together and the driver has little left to write after the last result."""
+
+MAX_BATCH_FILES = 64
+MAX_BATCH_BYTES = 4 * 1024 * 1024
+"""A batch closes at this many files or source bytes, whichever comes first."""
+
+
+def batch_size(files: int, threads: int) -> int:
+    """Files in the next batch when `files` files are left for `threads` worker threads.
+
+    Each Dask task costs the driver, the scheduler and the worker a few milliseconds whatever it
+    carries, about what parsing a small page costs; so files travel in batches, guided as
+    BATCHES_PER_THREAD says, and none grows past MAX_BATCH_FILES (results stream back as
+    batches finish).
+    """
+    return max(1, min(MAX_BATCH_FILES, -(-files // max(1, threads * BATCHES_PER_THREAD))))
+
 
 _local = threading.local()
 
@@ -52,8 +73,13 @@ def _parser(settings: Settings) -> IsolatedParser:
     return parsers[settings]
 
 
+def parse_batch_on_worker(items: list[tuple[bytes | str, str]], settings: Settings) -> list[ParseResult]:
+    """The task a worker runs: (payload, source) pairs in, one result each out, in order."""
+    return [parse_on_worker(payload, source, settings) for payload, source in items]
+
+
 def parse_on_worker(payload: bytes | str, source: str, settings: Settings) -> ParseResult:
-    """The task a worker runs: the file's bytes (or its path on a shared file system) in, a result out."""
+    """One file on a worker: its bytes (or its path on a shared file system) in, a result out."""
     if isinstance(payload, str):
         try:
             with open(payload, "rb") as fh:
@@ -63,6 +89,16 @@ def parse_on_worker(payload: bytes | str, source: str, settings: Settings) -> Pa
         except OSError as exc:
             return ParseResult("unreadable", f"cannot read on the worker: {exc.strerror or exc}")
     return _parser(settings).parse(payload, source)
+
+
+class Sent(NamedTuple):
+    """What the driver keeps of a file it sent: to check the file did not change under the parse."""
+
+    task: Task
+    sig: StatSig
+    digest: str
+    """The content hash of the bytes sent; empty when the workers read the file themselves."""
+    recorded: int
 
 
 class ClusterPool:
@@ -101,11 +137,8 @@ class ClusterPool:
     def __exit__(self, *exc: object) -> None:
         self.close()
 
-    def _capacity(self) -> int:
-        threads = sum(self.client.nthreads().values()) or 1
-        return max(2, threads * IN_FLIGHT_PER_THREAD)
-
-    def _submit(self, task: Task) -> tuple[Any, tuple[Task, StatSig, str, int]] | Outcome:
+    def _prepare(self, task: Task) -> tuple[bytes | str, Sent] | Outcome:
+        """Stat (and by default read and hash) one file for a batch, or say why it cannot go."""
         recorded = time.time_ns()
         try:
             st0 = os.stat(task.abspath)
@@ -119,17 +152,19 @@ class ClusterPool:
             return Outcome(task.path, FileStatus.MISSING, "file vanished before it could be read")
         except OSError as exc:
             return Outcome(task.path, FileStatus.UNREADABLE, f"cannot read: {exc.strerror or exc}")
-        future = self.client.submit(
-            parse_on_worker,
-            payload,
-            task.source,
+        return payload, Sent(task, StatSig.of(st0), digest, recorded)
+
+    def _submit(self, items: list[tuple[bytes | str, Sent]]) -> Any:
+        return self.client.submit(
+            parse_batch_on_worker,
+            [(payload, sent.task.source) for payload, sent in items],
             self.settings,
             key=f"docsegment-parse-{uuid.uuid4().hex}",
             pure=False,
         )
-        return future, (task, StatSig.of(st0), digest, recorded)
 
-    def _outcome(self, result: ParseResult, task: Task, sig: StatSig, digest: str, recorded: int) -> Outcome:
+    def _outcome(self, result: ParseResult, sent: Sent) -> Outcome:
+        task, sig, digest, recorded = sent
         if result.status != FileStatus.OK:
             return Outcome(task.path, result.status, result.reason, pid=result.pid, ms=result.ms)
         if task.patient and result.repaired and time.time_ns() - sig.mtime_ns < YOUNG_NS:
@@ -161,43 +196,72 @@ class ClusterPool:
     def outcomes(
         self, tasks: Iterable[Task], stop: Callable[[], bool] | None = None
     ) -> Generator[Outcome, None, None]:
-        """Run tasks on the cluster, yielding one outcome per task as they finish."""
+        """Run tasks on the cluster in batches, yielding one outcome per task as batches finish.
+
+        A batch the scheduler gives up on (its workers kept dying) is sent again one file a task,
+        so only the file that kills workers is reported `crashed`.
+        """
         from distributed import as_completed
 
         pending = iter(tasks)
-        meta: dict[str, tuple[Task, StatSig, str, int]] = {}
-        capacity = self._capacity()
-        running = as_completed([], loop=self.client.loop, with_results=False)  # not the default client
+        threads = sum(self.client.nthreads().values()) or 1
+        remaining = len(tasks) if isinstance(tasks, Sized) else 0
+        capacity = max(2, threads * IN_FLIGHT_PER_THREAD)
+        in_flight: dict[str, list[tuple[bytes | str, Sent]]] = {}
+        retry_singly: list[tuple[bytes | str, Sent]] = []
+        # Results are gathered on the client's event loop as tasks finish, not one round trip at a
+        # time from this thread; a failed task is told apart by its future's status.
+        running = as_completed([], loop=self.client.loop, with_results=True, raise_errors=False)
+
+        def send(items: list[tuple[bytes | str, Sent]]) -> None:
+            future = self._submit(items)
+            in_flight[future.key] = items
+            running.add(future)
 
         def fill() -> Generator[Outcome, None, None]:
-            while len(meta) < capacity and not (stop is not None and stop()):
-                task = next(pending, None)
-                if task is None:
-                    return
-                submitted = self._submit(task)
-                if isinstance(submitted, Outcome):
-                    yield submitted
+            while len(in_flight) < capacity and not (stop is not None and stop()):
+                if retry_singly:
+                    send([retry_singly.pop()])
                     continue
-                future, info = submitted
-                meta[future.key] = info
-                running.add(future)
+                nonlocal remaining
+                batch: list[tuple[bytes | str, Sent]] = []
+                size = 0
+                per_batch = batch_size(remaining, threads)
+                while len(batch) < per_batch and size < MAX_BATCH_BYTES:
+                    task = next(pending, None)
+                    if task is None:
+                        break
+                    remaining = max(0, remaining - 1)
+                    prepared = self._prepare(task)
+                    if isinstance(prepared, Outcome):
+                        yield prepared
+                        continue
+                    batch.append(prepared)
+                    size += len(prepared[0])
+                if not batch:
+                    return
+                send(batch)
 
         try:
             yield from fill()
-            while meta:
-                future = next(running)
-                task, sig, digest, recorded = meta.pop(future.key)
-                try:
-                    result: ParseResult = future.result()
-                except Exception as exc:  # the scheduler gave up on the task (workers kept dying)
-                    log.warning("%s: cluster task failed: %s", task.source, exc)
-                    result = ParseResult(
-                        FileStatus.CRASHED, f"cluster task failed: {type(exc).__name__}: {exc}"
-                    )
-                yield self._outcome(result, task, sig, digest, recorded)
+            while in_flight:
+                future, results = next(running)
+                items = in_flight.pop(future.key)
+                if future.status == "error":  # the task raised, or the scheduler gave up on it
+                    error = future.exception()
+                    if len(items) > 1:
+                        retry_singly.extend(items)
+                    else:
+                        source = items[0][1].task.source
+                        log.warning("%s: cluster task failed: %s", source, error)
+                        reason = f"cluster task failed: {type(error).__name__}: {error}"
+                        yield self._outcome(ParseResult(FileStatus.CRASHED, reason), items[0][1])
+                else:
+                    for (_, sent), result in zip(items, results, strict=True):
+                        yield self._outcome(result, sent)
                 yield from fill()
         finally:
-            meta.clear()  # left early: tasks never reported are released, and so cancelled
+            in_flight.clear()  # left early: tasks never reported are released, and so cancelled
             running.clear()
 
     def close(self) -> None:

@@ -1,0 +1,96 @@
+"""How the cluster executor groups files into Dask tasks, and what a failed batch costs.
+
+Each Dask task costs the driver, the scheduler and a worker a few milliseconds whatever it
+carries, so files travel in batches; a batch that fails must not take innocent files with it.
+The failures are staged on an in-process `distributed.LocalCluster` (worker threads in this
+process), where the task function can be replaced for the test.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from pathlib import Path
+
+import pytest
+
+from segment import Settings
+from segment.daemon import read_status, reconcile
+from tests.conftest import FIXTURES
+
+distributed = pytest.importorskip("distributed", reason="the cluster executor needs the cluster extra")
+cluster_module = pytest.importorskip("segment.daemon.cluster")
+
+pytestmark = pytest.mark.slow
+
+
+def test_batches_shrink_as_the_pass_nears_its_end() -> None:
+    size = cluster_module.batch_size
+    assert size(0, 2) == 1 and size(1, 2) == 1
+    assert size(10_000, 2) == cluster_module.MAX_BATCH_FILES
+    sizes = []
+    left = 300
+    while left:
+        sizes.append(size(left, 2))
+        left -= sizes[-1]
+    assert sizes == sorted(sizes, reverse=True) and sizes[-1] == 1
+    assert sum(sizes) == 300
+
+
+def test_more_threads_get_smaller_batches() -> None:
+    assert cluster_module.batch_size(400, 8) < cluster_module.batch_size(400, 2)
+
+
+@pytest.fixture(scope="module")
+def in_process_cluster() -> Iterator[str]:
+    with distributed.LocalCluster(
+        n_workers=1,
+        threads_per_worker=2,
+        processes=False,
+        dashboard_address=None,
+        worker_dashboard_address=None,
+    ) as local:
+        yield local.scheduler_address
+
+
+def chunk_files(out: Path) -> dict[str, bytes]:
+    return {p.relative_to(out).as_posix(): p.read_bytes() for p in sorted((out / "chunks").rglob("*.jsonl"))}
+
+
+def test_a_failed_batch_is_sent_again_one_file_a_task(
+    in_process_cluster: str, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    real = cluster_module.parse_batch_on_worker
+
+    def only_single_files(items: list[tuple[bytes | str, str]], settings: Settings) -> object:
+        if len(items) > 1:
+            raise RuntimeError("staged failure of a whole batch")
+        return real(items, settings)
+
+    monkeypatch.setattr(cluster_module, "parse_batch_on_worker", only_single_files)
+    local, remote = tmp_path / "local", tmp_path / "remote"
+    reconcile(FIXTURES / "demo", local)
+    reconcile(FIXTURES / "demo", remote, Settings(cluster=in_process_cluster))
+    assert chunk_files(remote) == chunk_files(local) != {}
+    status = read_status(remote)
+    assert status is not None and not status.failed
+
+
+def test_only_the_file_whose_task_keeps_failing_is_reported(
+    in_process_cluster: str, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    real = cluster_module.parse_batch_on_worker
+
+    def fails_on_the_limits_page(items: list[tuple[bytes | str, str]], settings: Settings) -> object:
+        if any(source.endswith("limits.md") for _, source in items):
+            raise RuntimeError("staged failure of every task holding limits.md")
+        return real(items, settings)
+
+    monkeypatch.setattr(cluster_module, "parse_batch_on_worker", fails_on_the_limits_page)
+    remote = tmp_path / "remote"
+    reconcile(FIXTURES / "demo", remote, Settings(cluster=in_process_cluster))
+    status = read_status(remote)
+    assert status is not None
+    assert [(source, kind) for source, kind, _ in status.failed] == [("reference/limits.md", "crashed")]
+    assert "staged failure" in status.failed[0][2]
+    written = {p.name for p in (remote / "chunks").rglob("*.jsonl")}
+    assert "limits.md.jsonl" not in written and len(written) > 3
