@@ -251,7 +251,10 @@ class Reconciler:
         done = 0
         attempts: dict[str, int] = {}
         while to_parse:
-            tasks = [Task(rel, str(self.scope.abs(rel)), display_name(rel), self.patient) for rel in to_parse]
+            # Largest files first: a long parse starts while short ones fill the other workers,
+            # instead of holding up the end of the pass alone (longest-processing-time order).
+            order = sorted(to_parse, key=lambda rel: (-to_parse[rel].size, rel))
+            tasks = [Task(rel, str(self.scope.abs(rel)), display_name(rel), self.patient) for rel in order]
             again: dict[str, StatSig] = {}
             outcomes = self.executor.outcomes(tasks, stop=self.stop_requested)
             for outcome in closing_iter(outcomes):
