@@ -23,6 +23,7 @@ from typing import Any
 
 import yaml
 
+from segment.adapters.simple_yaml import read_simple
 from segment.tree import Document
 
 MAX_FRONT_MATTER_CHARS = 1_000_000
@@ -68,6 +69,9 @@ def _load(doc: Document, content: str) -> Any:
             f"front matter of {len(content)} characters is over {MAX_FRONT_MATTER_CHARS}: not read"
         )
         return None
+    simple = read_simple(content)
+    if simple is not None:
+        return simple  # flat `key: value` lines: the same answer as PyYAML's, without building a tree
     try:
         refusal = None if _plainly_safe(content) else _refusal(content)
         if refusal:
