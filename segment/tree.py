@@ -42,13 +42,28 @@ def _union(a: tuple[int, int] | None, b: tuple[int, int] | None) -> tuple[int, i
 
 
 def merge_spans(spans: list[Span]) -> Span:
-    """Merge many spans; an empty list gives an empty span."""
-    lines = [s.lines for s in spans if s.lines is not None]
-    pages = [s.pages for s in spans if s.pages is not None]
-    bbox = next((s.bbox for s in spans if s.bbox is not None), None)
+    """Merge many spans; an empty list gives an empty span (one pass: it runs for every
+    section and every chunk)."""
+    first = last = first_page = last_page = -1
+    bbox = None
+    for span in spans:
+        if span.lines is not None:
+            a, b = span.lines
+            if first < 0 or a < first:
+                first = a
+            if b > last:
+                last = b
+        if span.pages is not None:
+            a, b = span.pages
+            if first_page < 0 or a < first_page:
+                first_page = a
+            if b > last_page:
+                last_page = b
+        if bbox is None:
+            bbox = span.bbox
     return Span(
-        lines=(min(a for a, _ in lines), max(b for _, b in lines)) if lines else None,
-        pages=(min(a for a, _ in pages), max(b for _, b in pages)) if pages else None,
+        lines=(first, last) if first >= 0 else None,
+        pages=(first_page, last_page) if first_page >= 0 else None,
         bbox=bbox,
     )
 
