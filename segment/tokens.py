@@ -29,8 +29,25 @@ class TokenCounter(Protocol):
 _WHITESPACE = b" \t\n\r\x0b\x0c"
 _DIGITS = string.digits.encode()
 _UPPER = string.ascii_uppercase.encode()
-_ALNUM_SPACE = string.ascii_letters.encode() + _DIGITS + _WHITESPACE
 _PUNCTUATION_TO_SPACE = bytes.maketrans(string.punctuation.encode(), b" " * len(string.punctuation))
+
+
+def _class_table() -> bytes:
+    """Each ASCII byte to its character class: `s` whitespace, `d` digit, `u` capital, `l` other
+    letter, `p` anything else (punctuation and controls); one translate sorts a whole text."""
+    table = bytearray(b"p" * 256)
+    for byte in _WHITESPACE:
+        table[byte] = ord("s")
+    for byte in _DIGITS:
+        table[byte] = ord("d")
+    for byte in _UPPER:
+        table[byte] = ord("u")
+    for byte in string.ascii_lowercase.encode():
+        table[byte] = ord("l")
+    return bytes(table)
+
+
+_CLASSES = _class_table()
 
 
 class EstimateCounter:
@@ -62,11 +79,12 @@ class EstimateCounter:
         data = text.encode("ascii", "ignore")
         other = len(text) - len(data)
         size = len(data)
-        ascii_non_space = len(data.translate(None, _WHITESPACE))
+        classes = data.translate(_CLASSES)
+        ascii_non_space = size - classes.count(b"s")
         non_space = ascii_non_space + other
-        punctuation = len(data.translate(None, _ALNUM_SPACE))
-        digits = size - len(data.translate(None, _DIGITS))
-        capitals = size - len(data.translate(None, _UPPER))
+        punctuation = classes.count(b"p")
+        digits = classes.count(b"d")
+        capitals = classes.count(b"u")
         weighted = 24 * non_space + 110 * punctuation + 46 * digits + 5 * capitals + 76 * other
         estimate = -(-weighted // 100)
         # The floor: one token per word between spaces and punctuation (non-ASCII characters are
