@@ -293,3 +293,30 @@ def test_the_nesting_bomb_is_capped_and_said(fmt: str) -> None:
         return  # refused with a clear status: allowed
     assert _depth(doc) <= MAX_BLOCK_DEPTH
     list(segment.chunk(doc))  # the segmenter copes with what the adapter kept
+
+
+@pytest.mark.parametrize(
+    "name",
+    [
+        "guide.md",
+        "a/b/Guide.MDX",
+        "a.tar.gz",
+        ".md",
+        "notes.",
+        "README",
+        "..",
+        "a/.hidden.rst",
+        "dir.d/file",
+        "trailing/slash.md/",
+        "x/y.ipynb",
+        "spaces in name.HTML",
+        "w\\in.md",
+    ],
+)
+def test_the_suffix_is_read_as_pathlib_reads_it(name: str) -> None:
+    # Reference: pathlib (PurePath.suffix), which the registry's fast path mirrors.
+    from pathlib import PurePath
+
+    from segment.adapters import _suffix
+
+    assert _suffix(name) == PurePath(name).suffix.lower()

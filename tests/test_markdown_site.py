@@ -234,3 +234,28 @@ def test_long_runs_of_site_syntax_build(tmp_path: Path, name: str) -> None:
     chunks = segment.chunk_file(page, Settings())
     assert all(c.format == "markdown" for c in chunks)
     assert chunks or name == "abbreviations"  # definition lines alone: nothing a reader sees
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        "",
+        "Term\n: its definition\n",
+        "> Term\n> : quoted definition\n",
+        ": at the very start\n",
+        "a : not a marker\n",
+        "x\n~ tilde form\n",
+        "x\n:no space\n",
+        "x\n  :   indented\n",
+        "x\n:\n",
+    ],
+)
+def test_a_page_uses_the_definition_rule_exactly_when_a_line_starts_with_its_marker(text: str) -> None:
+    # Reference: the line-anchored reading of the marker (Python's re with MULTILINE), which the
+    # narrowing's faster search must agree with; a page without it parses without the rule.
+    import re
+
+    from segment.adapters.markdown_site import SiteSyntax, used_in
+
+    expected = re.search(r"^[ \t>]*[:~][ \t]+\S", text, re.MULTILINE) is not None
+    assert used_in(SiteSyntax(), text).definitions == expected

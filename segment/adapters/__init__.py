@@ -85,13 +85,22 @@ named: by the user on the command line, or by an include pattern (see `names_fil
 
 def adapter_for(path: str | PurePath) -> Adapter:
     """The adapter for a file name, by suffix (case-insensitive); no suffix means plain text."""
-    suffix = PurePath(path).suffix.lower()
+    suffix = _suffix(path)
     for adapter in ADAPTERS:
         if suffix in adapter.suffixes:
             return adapter
     if is_extensionless(path):
         return next(a for a in ADAPTERS if a.format == EXTENSIONLESS)
     raise UnsupportedFormat(str(path), f"no adapter for suffix {suffix!r}")
+
+
+def _suffix(path: str | PurePath) -> str:
+    """`PurePath(path).suffix.lower()` without building a path object (it runs for every file)."""
+    if not isinstance(path, str) or "\\" in path:  # a Windows separator: let pathlib decide
+        return PurePath(path).suffix.lower()
+    name = path.rstrip("/").rpartition("/")[2]
+    dot = name.rfind(".")
+    return name[dot:].lower() if 0 < dot < len(name) - 1 else ""
 
 
 def is_supported(path: str | PurePath) -> bool:

@@ -21,6 +21,7 @@ Choices, each visible in the chunks:
 
 from __future__ import annotations
 
+import operator
 import re
 from typing import Any
 
@@ -61,6 +62,7 @@ from segment.tree import (
     finish_spans,
 )
 
+_LEVEL = operator.attrgetter("level")
 _SHORTCODE = re.compile(r"\{\{([<%])(.*?)([%>])\}\}", re.DOTALL)
 _SHORTCODE_ARG = re.compile(r'(?:(\w+)\s*=\s*)?("(?:[^"\\]|\\.)*"|`[^`]*`|\S+)')
 _LABEL_KEYS = {"title", "header", "caption", "label", "name"}
@@ -237,7 +239,7 @@ class _TreeBuilder:
             elif t in _SITE_TYPES:
                 i = self.site_block(tokens, i)
             i += 1
-        if tokens and max(tok.level for tok in tokens) >= MAX_NESTING - 1:
+        if tokens and max(map(_LEVEL, tokens)) >= MAX_NESTING - 1:
             self.recover_deep(tokens)
         finish_spans(self.doc.root)
 

@@ -94,7 +94,10 @@ def _syntax_of(settings: Settings | None) -> SiteSyntax:
     )
 
 
-_DEFINITION_MARKER = re.compile(r"^[ \t>]*[:~][ \t]+\S", re.MULTILINE)
+_DEFINITION_MARKER = re.compile(r"[ \t>]*[:~][ \t]+\S")
+_DEFINITION_MARKER_LINE = re.compile(r"\n[ \t>]*[:~][ \t]+\S")
+"""A definition's `:` or `~` marker at the start of a line (after quote marks); searched from a
+newline rather than with `^` and MULTILINE, which tries every position of the page."""
 _TASK_MARKER = re.compile(r"\[[ xX]\] ")
 
 
@@ -104,7 +107,7 @@ def used_in(syntax: SiteSyntax, text: str) -> SiteSyntax:
     present = (
         "!!!" in text or "???" in text,
         "===" in text,
-        _DEFINITION_MARKER.search(text) is not None,
+        _DEFINITION_MARKER.match(text) is not None or _DEFINITION_MARKER_LINE.search(text) is not None,
         "[^" in text or "^[" in text,
         _TASK_MARKER.search(text) is not None,
         ":::" in text,
