@@ -219,11 +219,11 @@ class ClusterPool:
             running.add(future)
 
         def fill() -> Generator[Outcome, None, None]:
+            nonlocal remaining
             while len(in_flight) < capacity and not (stop is not None and stop()):
                 if retry_singly:
                     send([retry_singly.pop()])
                     continue
-                nonlocal remaining
                 batch: list[tuple[bytes | str, Sent]] = []
                 size = 0
                 per_batch = batch_size(remaining, threads)
