@@ -18,10 +18,18 @@ a token glued to its neighbours differently (code-span backticks, table cells) c
 its characters appear contiguous in the chunks.
 
 The newer formats get references of their own, none of them our adapters:
-- reStructuredText: docutils' own HTML writer (`html5`, file insertion and raw output off), text taken with lxml, without docutils'
-  reports on markup it does not know (a documentation generator's directives: our adapter keeps
-  more of those than the reference counts); the generator's roles, which plain docutils would
-  print as raw markup, are first reduced to the text the generator shows.
+- reStructuredText: docutils' own HTML writer (`html5`, file insertion and raw output off), text
+  taken with lxml, without docutils' reports on markup it does not know (a documentation
+  generator's directives: our adapter keeps more of those than the reference counts); the
+  generator's roles, which plain docutils would print as raw markup, are first reduced to the
+  text the generator shows (role names compared without case, as docutils' `roles.role` does).
+  Not counted, as the Markdown reference does not count footnote back-links: a generated table of
+  contents (`contents` directive: the section titles again, which reach the chunks as headings)
+  and the numbered back-links "(1, 2)" of a footnote cited twice. Math is read as its LaTeX
+  source (the writer's `math_output` "LaTeX", without its spelling of Unicode symbols as
+  macros), since MathML's symbols are a rendering of that source, which our adapter keeps.
+  Page headers and footers (`header`/`footer` directives) do count: our adapter drops them as
+  page chrome and warns.
 - Notebooks: the cells as nbformat reads them; Markdown cells through the Markdown reference
   above, code cells' source as written; outputs are off by default, raw cells are not rendered
   by Jupyter's HTML export (from memory), so neither counts.
@@ -44,11 +52,13 @@ from collections import Counter
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from pathlib import Path
+from unittest import mock
 
 import docutils.core
 import lxml.html
 import nbformat
 import pytest
+from docutils.utils.math import unichar2tex
 
 import segment
 from segment.adapters.markdown_site import SiteSyntax, parser_for
@@ -144,14 +154,16 @@ DOCUTILS_ROLES = frozenset(
 )
 """The interpreted text roles of plain docutils (docutils.sourceforge.io, "reStructuredText
 Interpreted Text Roles")."""
-_ROLE = re.compile(r":([\w.+-]+):`([^`]*)`")
+_DOCUTILS_ROLE_NAMES = frozenset(name.lower() for name in DOCUTILS_ROLES)
+_ROLE = re.compile(r"(?<![\w`:]):([\w.+-]+):`([^`]*)`")
+"""A role before its text; not inside other inline markup (an inline target _`:name:`)."""
 
 
 def _generator_role_text(match: re.Match[str]) -> str:
     """A role docutils does not know, as the documentation generator shows it (from memory):
     the title of `title <target>`, the last name of `~a.b.c`, else the content."""
     name, content = match.groups()
-    if name in DOCUTILS_ROLES:
+    if name.lower() in _DOCUTILS_ROLE_NAMES:  # docutils reads role names case-insensitively
         return match.group(0)
     titled = re.fullmatch(r"(.*?)\s*<[^<>]*>", content, re.DOTALL)
     if titled:
@@ -162,24 +174,35 @@ def _generator_role_text(match: re.Match[str]) -> str:
 def visible_rst(path: Path) -> str:
     """The text docutils' own HTML writer shows for a reStructuredText file."""
     source = _ROLE.sub(_generator_role_text, path.read_text(encoding="utf-8"))
-    html = docutils.core.publish_string(
-        source,
-        source_path=str(path),
-        writer="html5",
-        settings_overrides={
-            "report_level": 5,
-            "halt_level": 5,
-            "file_insertion_enabled": False,
-            "raw_enabled": False,
-            "warning_stream": io.StringIO(),
-            "output_encoding": "utf-8",
-        },
-    )
+    # Math as the author wrote it (the writer's `math_output` "LaTeX"), without the writer's
+    # spelling of Unicode symbols as LaTeX macros (its `visit_math` translates them).
+    with mock.patch.object(unichar2tex, "uni2tex_table", {}):
+        html = docutils.core.publish_string(
+            source,
+            source_path=str(path),
+            writer="html5",
+            settings_overrides={
+                "report_level": 5,
+                "halt_level": 5,
+                "file_insertion_enabled": False,
+                "raw_enabled": False,
+                "math_output": "LaTeX",
+                "warning_stream": io.StringIO(),
+                "output_encoding": "utf-8",
+            },
+        )
     body = lxml.html.document_fromstring(html).body
     # Not the author's text: docutils' reports on markup it does not know (system messages, and
-    # "problematic" inline text such as a documentation generator's roles), and the colon the
-    # writer adds after a field name.
-    hidden = body.find_class("system-message") + body.find_class("problematic") + body.find_class("colon")
+    # "problematic" inline text such as a documentation generator's roles), the colon the writer
+    # adds after a field name, a generated table of contents (the section titles again) and the
+    # numbered back-links of a footnote cited more than once.
+    hidden = (
+        body.find_class("system-message")
+        + body.find_class("problematic")
+        + body.find_class("colon")
+        + [toc for toc in body.find_class("contents") if toc.tag == "nav"]
+        + body.find_class("backrefs")
+    )
     for element in body.xpath("//script|//style") + hidden:
         element.drop_tree()
     for classifier in body.find_class("classifier"):  # set apart by the writer's style sheet
