@@ -33,10 +33,13 @@ The newer formats get references of their own, none of them our adapters:
 - Notebooks: the cells as nbformat reads them; Markdown cells through the Markdown reference
   above, code cells' source as written; outputs are off by default, raw cells are not rendered
   by Jupyter's HTML export (from memory), so neither counts.
-- MDX (our own reading, since no renderer is at hand): front matter, `import`/`export` lines and
-  `{...}` expressions and comments go; a JSX tag goes, leaving the `label` it carries (or, with
-  no label, the `value`) as a line, as MDX sites show tab labels; an admonition fence
-  `:::type Title` leaves "type Title"; the rest is Markdown, through the Markdown reference.
+- MDX (our own reading, since no renderer is at hand): outside code fences, front matter,
+  `import`/`export` lines and `{...}` expressions and comments go; a JSX tag goes, leaving the
+  `label` it carries (or, with no label, the `value`) as a line, as MDX sites show tab labels; an
+  admonition fence `:::type Title` leaves "type Title". A code fence is code wherever it stands
+  (MDX reads no ESM, JSX or expressions inside it, and has no indented code, so a fence indented
+  under a JSX tag is still a fence); its `title="..."` shows above it (Docusaurus' "Code title",
+  from memory). The rest is Markdown, through the Markdown reference.
 - Plain text (our own reading): the file decoded (UTF-8, else Windows-1252), without the
   underline lines of `=`/`-`/`~`/`*`/`#` that mark headings and breaks and the list marks
   (a bullet `-`/`*`/`+`, the `.` or `)` after an item number: a list shows its own marks);
@@ -47,6 +50,7 @@ from __future__ import annotations
 
 import io
 import re
+import textwrap
 import warnings
 from collections import Counter
 from collections.abc import Callable
@@ -241,13 +245,47 @@ def _tag_text(match: re.Match[str]) -> str:
 
 def visible_mdx(path: Path) -> str:
     """Our reading of what an MDX site shows (see the module docstring)."""
-    text = _ES_LINES.sub("", _FRONT_MATTER.sub("", path.read_text(encoding="utf-8")))
+    text = _FRONT_MATTER.sub("", path.read_text(encoding="utf-8"))
+    parts = []
+    for prose, fence in _prose_and_fences(text):
+        parts.append(_visible_mdx_prose(prose))
+        if fence:
+            title = _FENCE_TITLE.search(fence.split("\n", 1)[0])
+            # MDX has no indented code: a fence indented under a JSX tag is still a fence.
+            parts.append(("\n" + title.group(2) + "\n\n" if title else "\n") + textwrap.dedent(fence))
+    return visible_markdown("".join(parts))
+
+
+_FENCE_OPEN = re.compile(r"^[ \t]*(`{3,}|~{3,})(.*)$", re.MULTILINE)
+_FENCE_TITLE = re.compile(r"""\btitle=(["'])(.*?)\1""")
+
+
+def _prose_and_fences(text: str) -> list[tuple[str, str]]:
+    """The text cut into (prose, the code fence after it) pairs; the last fence may be ""."""
+    out: list[tuple[str, str]] = []
+    start = 0
+    for opening in _FENCE_OPEN.finditer(text):
+        if opening.start() < start or (opening.group(1)[0] == "`" and "`" in opening.group(2)):
+            continue  # inside the previous fence, or not a fence (CommonMark: no backtick in the info)
+        char, length = opening.group(1)[0], len(opening.group(1))
+        closing = re.compile(rf"^[ \t]*{re.escape(char)}{{{length},}}[ \t]*$", re.MULTILINE)
+        close = closing.search(text, opening.end() + 1)
+        end = close.end() if close else len(text)
+        out.append((text[start : opening.start()], text[opening.start() : end]))
+        start = end
+    out.append((text[start:], ""))
+    return out
+
+
+def _visible_mdx_prose(text: str) -> str:
+    """Prose outside code fences, its MDX layer read as the module docstring says."""
+    text = _ES_LINES.sub("", text)
     text = _ADMONITION.sub(lambda m: " ".join(p for p in m.groups() if p), text)
     text = re.sub(r"^:::[ \t]*$", "", text, flags=re.MULTILINE)
     for _ in range(3):  # nested expressions, innermost first
         text = _EXPRESSION.sub("", text)
     text = _JSX_TAG.sub(_tag_text, text)
-    return visible_markdown("\n".join(line.strip() for line in text.splitlines()))
+    return "\n".join(line.strip() for line in text.splitlines()) + "\n"
 
 
 _UNDERLINE = re.compile(r"^[ \t]*([=\-~*#])\1{2,}[ \t\r]*$", re.MULTILINE)
