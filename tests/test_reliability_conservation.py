@@ -420,8 +420,6 @@ def test_fixtures_of_each_new_format_keep_at_least_99_9_percent_of_visible_text(
 @pytest.mark.corpus
 @pytest.mark.timeout(120)
 def test_shared_notebook_corpus_keeps_at_least_99_9_percent_of_visible_text() -> None:
-    # Notebooks only: on the shared reStructuredText and MDX corpora some files still fall under
-    # the target without a warning (a `header` directive's text, MDX code-block titles).
     folder = CORPUS / "ipynb"
     if not folder.is_dir():
         pytest.skip("shared corpus not present")
@@ -431,6 +429,55 @@ def test_shared_notebook_corpus_keeps_at_least_99_9_percent_of_visible_text() ->
         conserve(path, tally, Settings(), visible_notebook)
     print(report("shared corpus notebooks", tally, len(files)))
     assert tally.share >= TARGET, report("corpus notebooks", tally, len(files))
+
+
+@pytest.mark.corpus
+@pytest.mark.timeout(240)
+def test_shared_rst_corpus_keeps_at_least_99_9_percent_of_visible_text() -> None:
+    # Reference: docutils' own HTML writer (visible_rst; the docutils documentation itself).
+    folder = CORPUS / "rst"
+    if not folder.is_dir():
+        pytest.skip("shared corpus not present")
+    files = sorted(folder.rglob("*.rst"))
+    tally = Tally()
+    for path in files:
+        conserve(path, tally, Settings(), visible_rst)
+    print(report("shared corpus rst", tally, len(files)))
+    assert tally.share >= TARGET, report("corpus rst", tally, len(files))
+
+
+@pytest.mark.corpus
+@pytest.mark.timeout(120)
+def test_shared_mdx_corpus_keeps_at_least_99_9_percent_of_visible_text() -> None:
+    # Reference: our documented reading of what an MDX site shows (visible_mdx), then
+    # markdown-it-py for the Markdown left.
+    folder = CORPUS / "mdx"
+    if not folder.is_dir():
+        pytest.skip("shared corpus not present")
+    files = sorted(folder.rglob("*.mdx"))
+    tally = Tally()
+    for path in files:
+        conserve(path, tally, Settings(), visible_mdx)
+    print(report("shared corpus mdx", tally, len(files)))
+    assert tally.share >= TARGET, report("corpus mdx", tally, len(files))
+
+
+# -- the references' own readings ---------------------------------------------------------------
+
+
+def test_the_rst_reference_counts_neither_a_generated_contents_nor_back_links() -> None:
+    # docutils' html5 writer puts a `contents` topic in <nav class="contents"> and the back-links
+    # of a note cited twice in <span class="backrefs">; neither is the author's text.
+    shown = " ".join(visible_rst(FIXTURES / "rst" / "references.rst").split())
+    assert "On this page" not in shown and "(1, 2)" not in shown and "(1,2)" not in shown
+    assert "[1] Corvane cell sheet, revision C." in shown
+    assert "σ ≥ 3 dB" in shown and "θ_{max} = \\arctan(h / d)" in shown  # math as written
+
+
+def test_the_mdx_reference_leaves_code_fences_as_written() -> None:
+    shown = visible_mdx(FIXTURES / "mdx" / "code-titles.mdx")
+    assert "import React from 'react';" in shown and '<span className="badge">' in shown
+    assert "upload_log.py" in shown and "Push every log" in shown and "title=" not in shown
 
 
 # -- the hostile cases: kept, or flagged -------------------------------------------------------
