@@ -19,7 +19,7 @@ import pytest
 import segment
 from segment.adapters.markdown_site import SiteSyntax, admonition_label, container_label, parser_for
 from segment.settings import Settings
-from segment.tree import DefinitionList, Paragraph, Quote, pretty
+from segment.tree import Code, DefinitionList, Paragraph, Quote, pretty
 from tests.conftest import FIXTURES, check_golden
 
 CASES = sorted((FIXTURES / "markdown" / "site").glob("*.md"))
@@ -259,3 +259,16 @@ def test_a_page_uses_the_definition_rule_exactly_when_a_line_starts_with_its_mar
 
     expected = re.search(r"^[ \t>]*[:~][ \t]+\S", text, re.MULTILINE) is not None
     assert used_in(SiteSyntax(), text).definitions == expected
+
+
+def test_a_code_fence_title_is_a_paragraph_before_its_code(tmp_path: Path) -> None:
+    # Site generators show a fence's `title="..."` above the code block (MkDocs Material's
+    # "Adding a title", Docusaurus' "Code title"; from memory); the language stays the fence's.
+    path = tmp_path / "t.md"
+    path.write_text('Intro.\n\n```yaml title="relay.yaml"\nport: 8080\n```\n\n```sh\nrelay start\n```\n')
+    doc = segment.parse(path)
+    blocks = doc.root.blocks  # no heading: the blocks are the root's
+    assert [type(b).__name__ for b in blocks] == ["Paragraph", "Paragraph", "Code", "Code"]
+    assert isinstance(blocks[1], Paragraph) and blocks[1].text == "relay.yaml:"
+    assert blocks[1].span.lines == (3, 3)  # the opening fence's line
+    assert [b.language for b in blocks if isinstance(b, Code)] == ["yaml", "sh"]

@@ -43,6 +43,7 @@ CODE_SPAN = re.compile(r"(`+).*?\1")
 
 ESM_START = re.compile(r"(?:import|export)[ \t{*]")
 FENCE = re.compile(r"\s*(`{3,}|~{3,})")
+CODE_TITLE = re.compile(r"""^([ \t]*)(`{3,}|~{3,})([^\n]*?)[ \t]*\btitle=(["'])(.*?)\4""", re.MULTILINE)
 ATTRIBUTE_EXPRESSION = re.compile(r"=\{(?:[^{}]|\{(?:[^{}]|\{[^{}]*\})*\})*\}")
 
 
@@ -74,8 +75,9 @@ def visible_words(mdx: str) -> Counter[str]:
     elements, whose attributes are not text) and read with lxml; front matter and ESM blocks
     removed first (MDX's own rules: ESM from an `import`/`export` line to the next blank line,
     from memory of the MDX documentation), and `{...}` expressions removed from text outside
-    code elements. Code keeps everything."""
-    body = checker.FRONT_MATTER.sub("", mdx, count=1)
+    code elements. Code keeps everything; a code fence's `title="..."` shows as text above it
+    (Docusaurus' "Code title", from memory)."""
+    body = CODE_TITLE.sub(r"\1\5\n\n\1\2\3", checker.FRONT_MATTER.sub("", mdx, count=1))
     body = ATTRIBUTE_EXPRESSION.sub('=""', _without_esm(body))  # `onClick={...}` is no text
     html = checker._renderer().render(body)
     if not html.strip():
@@ -267,3 +269,20 @@ def test_tab_labels_stay_with_their_content() -> None:
         ("panel:", "On the front panel"),
     ]:
         assert any(label in t.split("\n") and content in t for t in texts), label
+
+
+def test_a_code_fence_title_is_a_line_before_its_code() -> None:
+    # Documentation sites show a fence's `title="..."` (a file name, mostly) above the code
+    # (Docusaurus' "Code title", from memory); the code itself stays as written, `import` and
+    # JSX included. The title ends in ":" like a tab label, so it opens its code's chunk.
+    text = "\n".join(c.text for c in segment.chunk_file(FIXTURES / "mdx" / "code-titles.mdx", Settings()))
+    assert "upload_log.py:\n\n```python\nimport corvane\n" in text
+    assert "src/components/LogBadge.tsx:\n\n```tsx\nimport React from 'react';\n" in text
+    assert "Push every log:\n\n```bash\ncorvane logs push --all\n```" in text
+    assert "title=" not in text
+
+
+def test_a_code_title_opens_the_chunk_of_its_code() -> None:
+    chunks = segment.chunk_file(FIXTURES / "mdx" / "dashboard.mdx", SETTINGS)
+    code = next(c for c in chunks if "export function PairingDiagram" in c.text)
+    assert code.text.startswith("src/components/PairingDiagram.js:\n\n```jsx\n")

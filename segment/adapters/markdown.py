@@ -6,6 +6,8 @@ Choices, each visible in the chunks:
 - Raw HTML blocks are reduced to their text; HTML comments are dropped.
 - Hugo shortcodes (`{{< name ... >}}`, `{{% name ... %}}`) are removed before parsing; the Markdown
   they wrap stays, and their visible labels (quoted arguments, `title=`) become a line of text.
+- A code fence's `title="..."` (the file name documentation sites show above the code) becomes a
+  line before the code, ending in ":" like a content tab's label, so it opens the code's chunk.
 - GitHub alerts (`> [!NOTE]`) become quotes labelled "Note"; `## Title {#id}` sets the anchor.
 - Documentation-site extensions (segment/adapters/markdown_site.py), each behind a setting:
   admonitions and `:::` containers become labelled quotes, content tabs their label as a line
@@ -73,6 +75,7 @@ _COLON_ATTRIBUTES_ONLY = re.compile(r"\{:[^{}\n]*\}")
 _ATTRIBUTES_ONLY = re.compile(r"\{[#.][\w.:-]+(?:\s+[^{}]*)?\}")
 _ALERT = re.compile(r"^\[!(\w+)\][ \t]*\n?")
 _SLUG_DROP = re.compile(r"[^\w\- ]", re.UNICODE)
+_CODE_TITLE = re.compile(r"""(?:^|\s)title=(["'])(.*?)\1""")
 _MARKERS = re.compile(r"^(?:\s*(?:>+|(?:[-*+]|\d{1,9}[.)])(?=\s|$)))+\s*")
 
 
@@ -223,9 +226,15 @@ class _TreeBuilder:
                 if isinstance(closed, Quote):
                     _label_alert(closed)
             elif t == "fence":
-                info = unescapeAll(tok.info).strip().split()
+                info_text = unescapeAll(tok.info).strip()
+                info = info_text.split()
                 lang = info[0].strip("{}.") if info else None
                 first = tok.map[0] + 2 if tok.map else None  # the line after the opening fence
+                title = _CODE_TITLE.search(info_text)
+                label = " ".join(title.group(2).split()) if title else ""
+                if label:  # ending in ":", it opens the chunk of its code, as a tab label does
+                    line = Span(lines=(tok.map[0] + 1, tok.map[0] + 1)) if tok.map else Span()
+                    self.add(Paragraph(label if label.endswith(":") else label + ":", line))
                 self.add(Code(_code_lines(tok.content), lang or None, _span(tok), first_line=first))
             elif t == "code_block":
                 first = tok.map[0] + 1 if tok.map else None

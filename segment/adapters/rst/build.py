@@ -242,15 +242,14 @@ class TreeBuilder:
 
     def line_block(self, node: nodes.Element, span: Any) -> list[Block]:
         lines: list[str] = []
-        stack: list[tuple[nodes.Element, int]] = [(node, 0)]
+        # Lines and nested blocks in document order; a nested block's lines are indented.
+        stack: list[tuple[nodes.Node, int]] = [(child, 0) for child in reversed(node.children)]
         while stack:
             current, indent = stack.pop()
-            for child in reversed(current.children):
-                if isinstance(child, nodes.line_block):
-                    stack.append((child, indent + 1))
-            for child in current.children:
-                if isinstance(child, nodes.line):
-                    lines.append("  " * indent + " ".join(self.inline(child).split()))
+            if isinstance(current, nodes.line_block):
+                stack.extend((child, indent + 1) for child in reversed(current.children))
+            elif isinstance(current, nodes.line):
+                lines.append("  " * indent + " ".join(self.inline(current).split()))
         text = "\n".join(line for line in lines if line.strip())
         return [Paragraph(text=text, span=span)] if text else []
 
@@ -410,7 +409,9 @@ class TreeBuilder:
         """Texts of a table cell's blocks, each reduced to what a reader sees."""
         out: list[str] = []
         for child in node.children:
-            if isinstance(child, nodes.TextElement):
+            if isinstance(child, nodes.label):  # a footnote's or citation's, as the notes show it
+                out.append(f"[{child.astext()}]")
+            elif isinstance(child, nodes.TextElement):
                 out.append(self.inline(child))
             elif isinstance(child, nodes.Element) and not isinstance(child, _SKIP):
                 out.extend(self.inline_blocks(child) if child.children else [])

@@ -1,5 +1,6 @@
 """The generator's roles reduced to their text: the title part of ``:ref:`title <target>` ``, the
-last part of ``:func:`~pkg.mod.name` ``; object roles read as inline code."""
+last part of ``:func:`~pkg.mod.name` ``; object roles read as inline code; ``:pep:`8` `` and
+``:rfc:`2822#section-3` `` read "PEP 8" and "RFC 2822", as docutils' own roles show them."""
 
 from __future__ import annotations
 
@@ -61,18 +62,24 @@ _TEXT_ROLES = frozenset(
         "mimetype",
     }
 )
-_TEXT_ROLES_ALL = _CODE_ROLES | _TEXT_ROLES | {"pep", "rfc", "manpage", "index", "eq", "newsgroup"}
+_NUMBERED_ROLES = {"pep": "PEP", "pep-reference": "PEP", "rfc": "RFC", "rfc-reference": "RFC"}
+"""Roles that show a standard's name before its number (docutils' `pep_reference_role` and
+`rfc_reference_role`: "PEP " + text, "RFC " + the number without its `#section`)."""
+_TEXT_ROLES_ALL = _CODE_ROLES | _TEXT_ROLES | _NUMBERED_ROLES.keys() | {"manpage", "index", "eq", "newsgroup"}
 
 
 def role_text(text: str, role: str) -> str:
     """What a reader sees of a generator role: the title of `title <target>`, the last part of
-    `~pkg.name`, without a leading `!`."""
+    `~pkg.name`, without a leading `!`; "PEP 8" for `:pep:`8``."""
     text = nodes.unescape(text)
     m = _ROLE_TITLE.match(text)
     if m and m.group(1):
         return m.group(1)
     if m:
         text = m.group(2)
+    standard = _NUMBERED_ROLES.get(role)
+    if standard:
+        return f"{standard} {text.partition('#')[0].strip() if standard == 'RFC' else text.strip()}"
     if text.startswith("!"):
         text = text[1:]
     if text.startswith("~"):
