@@ -78,7 +78,9 @@ def parse_to_result(data: bytes, source: str, settings: Settings) -> ParseResult
 
 def _send(stream: IO[bytes], obj: object) -> None:
     blob = pickle.dumps(obj, protocol=pickle.HIGHEST_PROTOCOL)
-    stream.write(_HEADER.pack(len(blob)) + blob)
+    view = memoryview(_HEADER.pack(len(blob)) + blob)
+    while view:  # an unbuffered pipe may take part of a large write
+        view = view[stream.write(view) or 0 :]
     stream.flush()
 
 
@@ -114,6 +116,7 @@ class IsolatedParser:
             stdout=subprocess.PIPE,
             stderr=subprocess.DEVNULL,
             close_fds=True,
+            bufsize=0,  # unbuffered: select() on the pipe must see every result not yet read
         )
         assert proc.stdin is not None and proc.stdout is not None
         _send(proc.stdin, self.settings)
@@ -135,29 +138,50 @@ class IsolatedParser:
 
     def parse(self, data: bytes, source: str) -> ParseResult:
         """Parse one file's bytes in the child, under `timeout_s` (start-up not counted)."""
+        return self.parse_many([(data, source)])[0]
+
+    def parse_many(self, items: list[tuple[bytes, str]]) -> list[ParseResult]:
+        """Parse several files in the child, one result per item, in order.
+
+        The whole list goes to the child at once and the results stream back, so the child
+        never waits for this process between files. Each file has `timeout_s` from the moment
+        the one before it was answered; a file that overruns or kills the child gets its status,
+        and a new child takes the rest."""
         from segment.daemon.workers import classify_exit
 
-        proc = self._proc if self._proc is not None and self._proc.poll() is None else self._start()
-        assert proc.stdin is not None and proc.stdout is not None
-        try:
-            if self._proc is proc and not getattr(proc, "ready", False):
-                if _receive(proc.stdout) != "ready":
-                    raise EOFError("child did not start")
-                proc.ready = True  # type: ignore[attr-defined]
-            _send(proc.stdin, (data, source))
-            ready, _, _ = select.select([proc.stdout], [], [], self.settings.timeout_s)
-            if not ready:
-                self._stop(kill=True)
+        results: list[ParseResult] = []
+        while len(results) < len(items):
+            try:
+                proc = self._ready_child()
+                assert proc.stdin is not None and proc.stdout is not None
+                _send(proc.stdin, items[len(results) :])
+                while len(results) < len(items):
+                    ready, _, _ = select.select([proc.stdout], [], [], self.settings.timeout_s)
+                    if not ready:
+                        self._stop(kill=True)
+                        self.replaced += 1
+                        reason = (
+                            f"parse took longer than timeout_s={self.settings.timeout_s:g}; worker killed"
+                        )
+                        results.append(ParseResult("timeout", reason))
+                        break
+                    results.append(_receive(proc.stdout))
+            except (EOFError, OSError, pickle.UnpicklingError):
+                code = self._stop(kill=True)
                 self.replaced += 1
-                reason = f"parse took longer than timeout_s={self.settings.timeout_s:g}; worker killed"
-                return ParseResult("timeout", reason)
-            result: ParseResult = _receive(proc.stdout)
-            return result
-        except (EOFError, OSError, pickle.UnpicklingError):
-            code = self._stop(kill=True)
-            self.replaced += 1
-            status, reason = classify_exit(code)
-            return ParseResult(status, reason)
+                status, reason = classify_exit(code)
+                results.append(ParseResult(status, reason))
+        return results
+
+    def _ready_child(self) -> subprocess.Popen[bytes]:
+        """The running child, or a new one once it says it has loaded the parsers."""
+        if self._proc is not None and self._proc.poll() is None:
+            return self._proc
+        proc = self._start()
+        assert proc.stdout is not None
+        if _receive(proc.stdout) != "ready":
+            raise EOFError("child did not start")
+        return proc
 
     def close(self) -> None:
         """Stop the child."""
@@ -165,7 +189,8 @@ class IsolatedParser:
 
 
 def child_main() -> None:
-    """The child's loop: settings first, then (data, source) requests until the pipe closes."""
+    """The child's loop: settings first, then lists of (data, source) until the pipe closes;
+    one result is sent as each file is done."""
     stdin, stdout = sys.stdin.buffer, sys.stdout.buffer
     sys.stdout = sys.stderr  # nothing but frames on the pipe, whatever a library prints
     settings: Settings = _receive(stdin)
@@ -180,7 +205,8 @@ def child_main() -> None:
     _send(stdout, "ready")
     while True:
         try:
-            data, source = _receive(stdin)
+            items: list[tuple[bytes, str]] = _receive(stdin)
         except EOFError:
             return
-        _send(stdout, parse_to_result(data, source, settings))
+        for data, source in items:
+            _send(stdout, parse_to_result(data, source, settings))

@@ -14,6 +14,7 @@ import threading
 import time
 from collections.abc import Iterator
 from pathlib import Path
+from typing import Any
 
 import pytest
 
@@ -143,5 +144,49 @@ def test_a_file_over_the_time_limit_is_stopped_on_the_worker_and_reported(
         assert result.status == "timeout" and "timeout_s" in (result.reason or "")
         again = IsolatedParser(Settings()).parse(b"# Fine\n\nText.\n", "fine.md")
         assert again.status == "ok" and again.ids
+    finally:
+        parser.close()
+
+
+def test_a_file_that_overruns_in_a_batch_costs_only_itself() -> None:
+    from segment.daemon.isolated import IsolatedParser
+
+    parser = IsolatedParser(Settings(timeout_s=1.0))
+    try:
+        results = parser.parse_many(
+            [
+                (b"# Before\n\nText.\n", "before.md"),
+                (b"# Title\n\n" + b"word " * 2_000_000, "huge.md"),  # far more than a second
+                (b"# After\n\nText.\n", "after.md"),
+            ]
+        )
+        assert [r.status for r in results] == ["ok", "timeout", "ok"]
+        assert parser.replaced == 1 and results[0].pid != results[2].pid  # a new child took the rest
+    finally:
+        parser.close()
+
+
+def test_results_the_child_sends_together_are_all_read_at_once(monkeypatch: pytest.MonkeyPatch) -> None:
+    # Results that wait together in the pipe (the worker was busy elsewhere) must all be read:
+    # none may sit in a read-ahead buffer that the time limit's select() cannot see, or that
+    # file is reported as a timeout.
+    import select as select_module
+
+    from segment.daemon import isolated
+
+    real_select = select_module.select
+    calls = {"n": 0}
+
+    def late_select(*args: Any) -> Any:
+        calls["n"] += 1
+        if calls["n"] == 1:
+            time.sleep(2)  # the child answers every file before the first result is read
+        return real_select(*args)
+
+    monkeypatch.setattr(isolated.select, "select", late_select)
+    parser = isolated.IsolatedParser(Settings(timeout_s=5.0))
+    try:
+        results = parser.parse_many([(f"# Page {n}\n\nText {n}.\n".encode(), f"p{n}.md") for n in range(5)])
+        assert [r.status for r in results] == ["ok"] * 5
     finally:
         parser.close()
