@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import html
 import re
+from collections.abc import Iterator
 from functools import lru_cache
 
 from segment.adapters.markdown import parse_text
@@ -29,7 +30,11 @@ from segment.tree import Document
 MAX_TAG_CHARS = 10_000
 """A JSX tag longer than this (its attributes included) is read as text: bounds the scan."""
 
-_SPECIAL_LINE = re.compile(r"^(?:[ \t]*(`{3,}|~{3,})|(?:import|export)(?=[ \t{*]))", re.MULTILINE)
+_SPECIAL_LINE = re.compile(r"(?:[ \t]*(`{3,}|~{3,})|(?:import|export)(?=[ \t{*]))")
+_SPECIAL_LINE_AFTER_NEWLINE = re.compile(r"\n(?:[ \t]*(`{3,}|~{3,})|(?:import|export)(?=[ \t{*]))")
+"""A line opening a code fence or an ES module block; searched from the newline before it
+(a literal first character lets the regex engine skip ahead, where `^` with MULTILINE tries
+every position of the page)."""
 _FRONT_MATTER = re.compile(r"---[ \t]*\n(?:.*\n)*?(?:---|\.\.\.)[ \t]*(?:\n|\Z)")
 _SPECIAL = re.compile(r"[`\\{<]")
 _BRACE_EVENT = re.compile(r"[{}\"'`\\]")
@@ -56,17 +61,15 @@ def strip_mdx(text: str) -> str:
     front = _front_matter_end(text)
     out: list[str] = [text[:front]]
     prose_start = front  # where the prose not yet written begins
-    for m in _SPECIAL_LINE.finditer(text, front):
-        start = m.start()
+    for start, after, fence in _special_lines(text, front):
         if start < prose_start:
             continue  # inside a fence or an ESM block already passed
         line_end = text.find("\n", start)
         line_end = len(text) if line_end == -1 else line_end
-        fence = m.group(1)
         if fence:
-            if fence[0] == "`" and "`" in text[m.end() : line_end]:
+            if fence[0] == "`" and "`" in text[after:line_end]:
                 continue  # CommonMark: no backtick in a backtick fence's info string
-            closing = _closing_fence(fence).search(text, line_end + 1 if line_end < len(text) else line_end)
+            closing = _closing_fence(fence).search(text, line_end)  # from the newline ending the line
             end = closing.end() if closing else len(text)
             out.append(_strip_run(text[prose_start:start]))
             out.append(text[start:end])
@@ -82,10 +85,21 @@ def strip_mdx(text: str) -> str:
     return "".join(out)
 
 
+def _special_lines(text: str, front: int) -> Iterator[tuple[int, int, str | None]]:
+    """(line start, end of the match, fence or None) of each line from `front` on (a line
+    start) that opens a code fence or an ES module block."""
+    if front == 0 or text[front - 1] != "\n":
+        first = _SPECIAL_LINE.match(text, front)
+        if first:
+            yield front, first.end(), first.group(1)
+    for m in _SPECIAL_LINE_AFTER_NEWLINE.finditer(text, max(front - 1, 0)):
+        yield m.start() + 1, m.end(), m.group(1)
+
+
 @lru_cache(maxsize=64)
 def _closing_fence(fence: str) -> re.Pattern[str]:
-    """A line of the fence's character only, at least as long as the opening."""
-    return re.compile(r"^[ \t]*" + re.escape(fence[0]) + "{" + str(len(fence)) + r",}[ \t]*$", re.MULTILINE)
+    """A newline, then a line of the fence's character only, at least as long as the opening."""
+    return re.compile(r"\n[ \t]*" + re.escape(fence[0]) + "{" + str(len(fence)) + r",}[ \t]*$", re.MULTILINE)
 
 
 def _front_matter_end(text: str) -> int:
