@@ -3,7 +3,8 @@
 Run by hand:  .venv/bin/python bench/bench_cluster.py [--copies 2] [--repeat 3] [FOLDER]
 
 Input: the shared Markdown corpus (../shared/corpus/markdown) copied N times, unless a folder is
-given. Every row builds the same tree into a fresh output folder (wall-clock seconds, best of
+given (`../shared/corpus` for the whole shared corpus, every format: docs/benchmarks.md records
+both). Every row builds the same tree into a fresh output folder (wall-clock seconds, best of
 `--repeat`):
 
 - local `--jobs 1` and `--jobs 2` (supervised worker processes on this machine);
