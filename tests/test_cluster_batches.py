@@ -16,6 +16,7 @@ import pytest
 from segment import Settings
 from segment.daemon import read_status, reconcile
 from tests.conftest import FIXTURES
+from tests.daemon_helpers import chunk_files
 
 distributed = pytest.importorskip("distributed", reason="the cluster executor needs the cluster extra")
 cluster_module = pytest.importorskip("segment.daemon.cluster")
@@ -50,10 +51,6 @@ def in_process_cluster() -> Iterator[str]:
         worker_dashboard_address=None,
     ) as local:
         yield local.scheduler_address
-
-
-def chunk_files(out: Path) -> dict[str, bytes]:
-    return {p.relative_to(out).as_posix(): p.read_bytes() for p in sorted((out / "chunks").rglob("*.jsonl"))}
 
 
 def test_a_failed_batch_is_sent_again_one_file_a_task(

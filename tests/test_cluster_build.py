@@ -21,6 +21,7 @@ import pytest
 from segment import Settings
 from segment.daemon import read_status, reconcile
 from tests.conftest import CORPUS, FIXTURES
+from tests.daemon_helpers import chunk_files
 from tests.hostile import CASES, write_cases
 
 distributed = pytest.importorskip("distributed", reason="the cluster executor needs the cluster extra")
@@ -39,10 +40,6 @@ def cluster() -> Iterator[str]:
         worker_dashboard_address=None,
     ) as local:
         yield local.scheduler_address
-
-
-def chunk_files(out: Path) -> dict[str, bytes]:
-    return {p.relative_to(out).as_posix(): p.read_bytes() for p in sorted((out / "chunks").rglob("*.jsonl"))}
 
 
 def feed_entries(out: Path) -> list[tuple[str, ...]]:

@@ -418,48 +418,30 @@ def test_fixtures_of_each_new_format_keep_at_least_99_9_percent_of_visible_text(
 
 
 @pytest.mark.corpus
-@pytest.mark.timeout(120)
-def test_shared_notebook_corpus_keeps_at_least_99_9_percent_of_visible_text() -> None:
-    folder = CORPUS / "ipynb"
-    if not folder.is_dir():
-        pytest.skip("shared corpus not present")
-    files = sorted(folder.rglob("*.ipynb"))
-    tally = Tally()
-    for path in files:
-        conserve(path, tally, Settings(), visible_notebook)
-    print(report("shared corpus notebooks", tally, len(files)))
-    assert tally.share >= TARGET, report("corpus notebooks", tally, len(files))
-
-
-@pytest.mark.corpus
 @pytest.mark.timeout(240)
-def test_shared_rst_corpus_keeps_at_least_99_9_percent_of_visible_text() -> None:
-    # Reference: docutils' own HTML writer (visible_rst; the docutils documentation itself).
-    folder = CORPUS / "rst"
-    if not folder.is_dir():
+@pytest.mark.parametrize(
+    ("folder", "pattern", "visible"),
+    [
+        # Reference: the cells as nbformat reads them, Markdown cells through markdown-it-py.
+        pytest.param("ipynb", "*.ipynb", visible_notebook, id="notebooks"),
+        # Reference: docutils' own HTML writer (visible_rst; the docutils documentation itself).
+        pytest.param("rst", "*.rst", visible_rst, id="rst"),
+        # Reference: our documented reading of what an MDX site shows (visible_mdx), then
+        # markdown-it-py for the Markdown left.
+        pytest.param("mdx", "*.mdx", visible_mdx, id="mdx"),
+    ],
+)
+def test_the_shared_corpus_of_each_new_format_keeps_at_least_99_9_percent_of_visible_text(
+    folder: str, pattern: str, visible: Callable[[Path], str]
+) -> None:
+    if not (CORPUS / folder).is_dir():
         pytest.skip("shared corpus not present")
-    files = sorted(folder.rglob("*.rst"))
+    files = sorted((CORPUS / folder).rglob(pattern))
     tally = Tally()
     for path in files:
-        conserve(path, tally, Settings(), visible_rst)
-    print(report("shared corpus rst", tally, len(files)))
-    assert tally.share >= TARGET, report("corpus rst", tally, len(files))
-
-
-@pytest.mark.corpus
-@pytest.mark.timeout(120)
-def test_shared_mdx_corpus_keeps_at_least_99_9_percent_of_visible_text() -> None:
-    # Reference: our documented reading of what an MDX site shows (visible_mdx), then
-    # markdown-it-py for the Markdown left.
-    folder = CORPUS / "mdx"
-    if not folder.is_dir():
-        pytest.skip("shared corpus not present")
-    files = sorted(folder.rglob("*.mdx"))
-    tally = Tally()
-    for path in files:
-        conserve(path, tally, Settings(), visible_mdx)
-    print(report("shared corpus mdx", tally, len(files)))
-    assert tally.share >= TARGET, report("corpus mdx", tally, len(files))
+        conserve(path, tally, Settings(), visible)
+    print(report(f"shared corpus {folder}", tally, len(files)))
+    assert tally.share >= TARGET, report(f"corpus {folder}", tally, len(files))
 
 
 # -- the references' own readings ---------------------------------------------------------------
