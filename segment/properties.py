@@ -81,6 +81,9 @@ def record_properties(
     properties: dict[str, Any], keep: tuple[str, ...], value_chars: int, total_chars: int
 ) -> dict[str, Any]:
     """The properties every chunk of a file carries (see the module docstring)."""
+    whole = _whole_if_within(properties, keep, min(value_chars, total_chars))
+    if whole is not None:
+        return whole
     out: dict[str, Any] = {}
     used = 2  # "{}"
     for raw_key, value in properties.items():
@@ -94,3 +97,24 @@ def record_properties(
         out[key] = kept
         used += cost
     return out
+
+
+def _whole_if_within(properties: dict[Any, Any], keep: tuple[str, ...], cap: int) -> dict[str, Any] | None:
+    """The common case in one measurement: every key kept, every value a scalar or a list of
+    scalars, and the whole JSON form within both caps, so nothing is cut or left out (the
+    answer `record_properties` gives key by key). None when any of that does not hold."""
+    if keep != ("*",):
+        return None
+    for key, value in properties.items():
+        if not isinstance(key, str):
+            return None
+        if isinstance(value, (list, tuple)):
+            if not all(_scalar(item) for item in value):
+                return None
+        elif not _scalar(value):
+            return None
+    if len(_ENCODER.encode(properties)) > cap:
+        return None
+    return {
+        key: list(value) if isinstance(value, (list, tuple)) else value for key, value in properties.items()
+    }

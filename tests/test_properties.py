@@ -22,11 +22,14 @@ from __future__ import annotations
 import os
 from collections import Counter
 from pathlib import Path
+from typing import Any
 
+import pytest
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
 import segment
+from segment.properties import record_properties
 from segment.settings import Settings
 from segment.tokens import counter_for
 
@@ -261,3 +264,40 @@ def test_no_chunk_holds_only_a_heading_whose_section_has_more(
     _tree, chunks = _chunks(tmp_path, markdown, max_tokens)
     alone = [c.text for c in chunks if c.blocks == ["heading"]]
     assert not alone, f"{alone}\n---\n{markdown}"
+
+
+def test_the_one_measurement_path_gives_the_key_by_key_answer(monkeypatch: pytest.MonkeyPatch) -> None:
+    # The common case (all kept, all within the caps) is answered from one JSON measurement;
+    # on generated properties that answer equals the key-by-key reading of the module docstring.
+    import random
+
+    import segment.properties as props_module
+
+    values: list[object] = [
+        None,
+        True,
+        0,
+        -2,
+        1.5,
+        float("nan"),
+        "",
+        "x",
+        "é" * 50,
+        "a" * 1500,
+        [1, "a"],
+        ["b"] * 300,
+        [{"a": 1}],
+        {"n": 1},
+        (1, 2),
+        10**30,
+    ]
+    keys: list[object] = ["title", "tags", "a.b", "é", 1]
+    rng = random.Random(7)
+    cases: list[tuple[dict[Any, object], tuple[str, ...], int, int]] = []
+    for _ in range(2000):
+        declared = {rng.choice(keys): rng.choice(values) for _ in range(rng.randint(0, 5))}
+        keep = rng.choice([("*",), ("t*",), ("*", "!tags")])
+        cases.append((declared, keep, rng.choice([10, 100, 1000]), rng.choice([50, 400, 4000])))
+    fast = [record_properties(*case) for case in cases]
+    monkeypatch.setattr(props_module, "_whole_if_within", lambda *args: None)
+    assert fast == [record_properties(*case) for case in cases]
