@@ -1,12 +1,14 @@
-"""One file at a time in a child process under time and memory limits, where forking is not allowed.
+"""Files parsed one after another in a child process under time and memory limits, where forking
+is not allowed.
 
 Local builds supervise `multiprocessing` workers (segment.daemon.workers). A Dask worker is itself
 a daemonic process, which `multiprocessing` refuses to give children, yet a parser may hang, crash
 or eat memory there as well. So a Dask task hands the bytes to a long-lived child started with
 `subprocess` (`segment.daemon.isolated.child_main`): it sets its own address-space limit
-(`memory_mb`), loads the parsers once, and answers one request at a time over its pipes
-(length-prefixed pickles). The parent kills it when a file overruns `timeout_s`, and starts a new
-one for the next file; a child that dies is classified like a local worker.
+(`memory_mb`), loads the parsers once, takes a batch of files at a time over its pipes
+(length-prefixed pickles) and sends one result back as each file is done. The parent kills it when
+a file overruns `timeout_s`, and starts a new one for the rest of the batch; a child that dies is
+classified like a local worker.
 """
 
 from __future__ import annotations
