@@ -8,6 +8,7 @@ process), where the task function can be replaced for the test.
 
 from __future__ import annotations
 
+import shutil
 from collections.abc import Iterator
 from pathlib import Path
 
@@ -53,41 +54,71 @@ def in_process_cluster() -> Iterator[str]:
         yield local.scheduler_address
 
 
+COPIES = 5
+"""Copies of the demo docs: 40 files, so the first batches on two threads hold several files."""
+
+
+@pytest.fixture
+def docs(tmp_path: Path) -> Path:
+    src = tmp_path / "docs"
+    for copy in range(COPIES):
+        shutil.copytree(FIXTURES / "demo", src / f"copy{copy}")
+    return src
+
+
 def test_a_failed_batch_is_sent_again_one_file_a_task(
-    in_process_cluster: str, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+    in_process_cluster: str, docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     real = cluster_module.parse_batch_on_worker
+    log = tmp_path / "batch-sizes.txt"  # the task function travels as a copy: it reports through a file
 
     def only_single_files(items: list[tuple[bytes | str, str]], settings: Settings) -> object:
+        with open(log, "a") as fh:
+            fh.write(f"{len(items)}\n")
         if len(items) > 1:
             raise RuntimeError("staged failure of a whole batch")
         return real(items, settings)
 
     monkeypatch.setattr(cluster_module, "parse_batch_on_worker", only_single_files)
     local, remote = tmp_path / "local", tmp_path / "remote"
-    reconcile(FIXTURES / "demo", local)
-    reconcile(FIXTURES / "demo", remote, Settings(cluster=in_process_cluster))
+    reconcile(docs, local)
+    reconcile(docs, remote, Settings(cluster=in_process_cluster))
+    sizes = [int(line) for line in log.read_text().split()]
+    assert max(sizes) > 1  # batches were formed, failed, and their files went again alone
     assert chunk_files(remote) == chunk_files(local) != {}
     status = read_status(remote)
     assert status is not None and not status.failed
 
 
 def test_only_the_file_whose_task_keeps_failing_is_reported(
-    in_process_cluster: str, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+    in_process_cluster: str, docs: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     real = cluster_module.parse_batch_on_worker
+    log = tmp_path / "batch-sizes.txt"  # the task function travels as a copy: it reports through a file
 
-    def fails_on_the_limits_page(items: list[tuple[bytes | str, str]], settings: Settings) -> object:
-        if any(source.endswith("limits.md") for _, source in items):
-            raise RuntimeError("staged failure of every task holding limits.md")
+    def fails_on_the_getting_started_page(items: list[tuple[bytes | str, str]], settings: Settings) -> object:
+        if any(source.endswith("getting-started.md") for _, source in items):
+            with open(log, "a") as fh:
+                fh.write(f"{len(items)}\n")
+            raise RuntimeError("staged failure of every task holding getting-started.md")
         return real(items, settings)
 
-    monkeypatch.setattr(cluster_module, "parse_batch_on_worker", fails_on_the_limits_page)
+    monkeypatch.setattr(cluster_module, "parse_batch_on_worker", fails_on_the_getting_started_page)
     remote = tmp_path / "remote"
-    reconcile(FIXTURES / "demo", remote, Settings(cluster=in_process_cluster))
+    reconcile(docs, remote, Settings(cluster=in_process_cluster))
+    batches_with_it = [int(line) for line in log.read_text().split()]
+    assert max(batches_with_it) > 1 and min(batches_with_it) == 1  # in batches first, then alone
     status = read_status(remote)
     assert status is not None
-    assert [(source, kind) for source, kind, _ in status.failed] == [("reference/limits.md", "crashed")]
-    assert "staged failure" in status.failed[0][2]
-    written = {p.name for p in (remote / "chunks").rglob("*.jsonl")}
-    assert "limits.md.jsonl" not in written and len(written) > 3
+    expected = sorted((f"copy{copy}/guides/getting-started.md", "crashed") for copy in range(COPIES))
+    assert sorted((source, kind) for source, kind, _ in status.failed) == expected
+    assert all("staged failure" in reason for _, _, reason in status.failed)
+    local = tmp_path / "local"
+    reconcile(docs, local)
+    others = {
+        name: data
+        for name, data in chunk_files(local).items()
+        if not name.endswith("getting-started.md.jsonl")
+    }
+    assert chunk_files(remote) == others  # every other file written, as a local build writes it
+    assert len(others) > 3
