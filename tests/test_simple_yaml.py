@@ -8,7 +8,6 @@ generated documents, `read_simple` is either None or equal to it.
 from __future__ import annotations
 
 import re
-from pathlib import Path
 
 import pytest
 import yaml
@@ -193,8 +192,14 @@ def test_generated_front_matter_reads_as_pyyaml_reads_it(lines: list[tuple[str, 
     assert simple is None or simple == expected, content
 
 
-def test_the_reader_is_used_for_pages(tmp_path: Path) -> None:
+def test_the_reader_is_used_for_pages(monkeypatch: pytest.MonkeyPatch) -> None:
     import segment
+    from segment.adapters import markdown_properties
 
+    def no_pyyaml(*args: object, **kwargs: object) -> None:
+        raise AssertionError("flat front matter went to PyYAML")
+
+    monkeypatch.setattr(markdown_properties.yaml, "load", no_pyyaml)
+    monkeypatch.setattr(markdown_properties.yaml, "parse", no_pyyaml)
     doc = segment.parse_bytes(b"---\ntitle: Hangar doors\ntags: [safety]\n---\n\nText.\n", "hangar.md")
     assert doc.title == "Hangar doors" and doc.properties["tags"] == ["safety"]

@@ -41,6 +41,9 @@ _RESOLVED: dict[str, bool | None] = {
 _RESOLVED_WORDS = frozenset(("yes", "no", "true", "false", "on", "off", "null", "y", "n"))
 """Words that resolve (or might, in another spelling): read here only in the spellings above."""
 
+_NOT_SIMPLE = object()
+"""What `_value` and `_scalar` return for text this module does not read."""
+
 Scalar = str | int | bool | None
 Value = Scalar | list[Scalar]
 
@@ -61,9 +64,6 @@ def read_simple(content: str) -> dict[str, Value] | None:
             return None
         out[m.group(1)] = value  # type: ignore[assignment]
     return out or None  # PyYAML reads a front matter of comments alone as null
-
-
-_NOT_SIMPLE = object()
 
 
 def _value(text: str) -> Value | object:
