@@ -359,3 +359,43 @@ def test_files_no_adapter_reads_are_counted_by_suffix(
     assert run_status(out, as_json=True) == 0
     data = json.loads(capsys.readouterr().out)
     assert data["not_read"] == {".adoc": ["api/queue.adoc", "api/stack.adoc"], ".docx": ["notes.docx"]}
+
+
+def test_files_go_to_the_workers_largest_first(tmp_path: Path) -> None:
+    # Longest-processing-time order (common practice in scheduling): a long parse starts early
+    # instead of ending the pass alone on one worker while the others wait.
+    from collections.abc import Callable, Generator, Iterable
+
+    from segment.daemon.executor import Executor, local_executor
+    from segment.daemon.tasks import Outcome, Task
+
+    src = tmp_path / "docs"
+    for name, words in (
+        ("small.md", 10),
+        ("large.md", 3000),
+        ("medium.md", 300),
+        ("tie-b.md", 50),
+        ("tie-a.md", 50),
+    ):
+        write(src / name, "# Page\n\n" + "word " * words + "\n")
+    order: list[str] = []
+
+    class Recording:
+        def __init__(self, inner: Executor) -> None:
+            self.inner = inner
+
+        def outcomes(
+            self, tasks: Iterable[Task], stop: Callable[[], bool] | None = None
+        ) -> Generator[Outcome, None, None]:
+            tasks = list(tasks)
+            order.extend(task.path for task in tasks)
+            yield from self.inner.outcomes(tasks, stop)
+
+        def close(self) -> None:
+            self.inner.close()
+
+    with Reconciler(
+        src, tmp_path / "out", Settings(), executor=lambda s, j: Recording(local_executor(s, j))
+    ) as r:
+        r.reconcile()
+    assert order == ["large.md", "medium.md", "tie-a.md", "tie-b.md", "small.md"]
