@@ -2,29 +2,16 @@
 
 Documentation written for Sphinx (the Python documentation generator) uses directives and roles
 that plain docutils reports as unknown and prints as error boxes. Here they are read the way a
-reader of the built site sees them, without failing and without leaking markup:
-
-- table-of-contents trees and autodoc stubs (`toctree`, `automodule`, `autofunction`...) vanish,
-  each with a warning (their text is generated from other files or from code);
-- `versionadded`, `versionchanged`, `deprecated`, `versionremoved`, `seealso` and `todo` become
-  labelled admonitions ("Added in version 2.1", "See also"...);
-- `glossary` and `only` keep their content (a glossary is a definition list);
-- `code-block`, `sourcecode` and `code` give a literal block with its language (options such as
-  `:linenos:` accepted and ignored; a `:caption:` kept as a paragraph);
-- object descriptions (`function`, `py:method`, `c:type`, `envvar`...) become a definition list:
-  the signature as the term, the content as its definition;
-- other unknown directives keep their content, labelled with their argument, and warn;
-- roles reduce to their text: the title part of ``:ref:`title <target>` ``, the last part of
-  ``:func:`~pkg.mod.name` ``; object roles read as inline code.
-- `include`, `literalinclude`, `raw` and `csv-table` read no file outside the source root and no
-  URL; inside the root they read only when `Settings.rst_include_root` is set.
+reader of the built site sees them, without failing and without leaking markup: what each
+directive becomes is listed in `directives`, what each role becomes in `roles`, and `include`,
+`literalinclude`, `raw` and `csv-table` read no file outside the source root and no URL
+(`include_guard`; inside the root only when `Settings.rst_include_root` is set).
 
 Nothing is registered in docutils' global directive or role tables: the handlers live on state
 classes and an inliner of our own, used only by `LenientParser`, so a program that also uses
 docutils directly sees no change.
 
-The directive classes are in `directives`, the guarded file readers in `include_guard`, the roles
-in `roles`; this module holds the name table, the state classes and the parser.
+This module holds the name table, the state classes and the parser.
 """
 
 from __future__ import annotations
