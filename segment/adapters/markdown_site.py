@@ -30,6 +30,7 @@ from mdit_py_plugins.deflist import deflist_plugin
 from mdit_py_plugins.footnote import footnote_plugin
 from mdit_py_plugins.front_matter import front_matter_plugin
 
+from segment.adapters.markdown_destinations import TextParser
 from segment.settings import Settings
 
 MAX_NESTING = 40
@@ -134,8 +135,9 @@ def _narrowed(syntax: SiteSyntax, present: tuple[bool, ...]) -> SiteSyntax:
 @lru_cache(maxsize=256)
 def parser_for(syntax: SiteSyntax) -> MarkdownIt:
     """A markdown-it parser (CommonMark + GFM tables and strikethrough + front matter) with the
-    chosen extensions; built once per combination."""
-    md = MarkdownIt("commonmark", {"maxNesting": MAX_NESTING, "html": True})
+    chosen extensions; built once per combination. Link destinations are checked, not normalised
+    (segment/adapters/markdown_destinations.py)."""
+    md = TextParser("commonmark", {"maxNesting": MAX_NESTING, "html": True})
     md.enable(["table", "strikethrough"])
     md.use(front_matter_plugin)
     if not syntax.indented_code:
