@@ -30,7 +30,7 @@ from mdit_py_plugins.deflist import deflist_plugin
 from mdit_py_plugins.footnote import footnote_plugin
 from mdit_py_plugins.front_matter import front_matter_plugin
 
-from segment.adapters.markdown_destinations import TextParser
+from segment.adapters.markdown_parser import TextParser, plain_text_inline
 from segment.settings import Settings
 
 MAX_NESTING = 40
@@ -135,9 +135,16 @@ def _narrowed(syntax: SiteSyntax, present: tuple[bool, ...]) -> SiteSyntax:
 @lru_cache(maxsize=256)
 def parser_for(syntax: SiteSyntax) -> MarkdownIt:
     """A markdown-it parser (CommonMark + GFM tables and strikethrough + front matter) with the
-    chosen extensions; built once per combination. Link destinations are checked, not normalised
-    (segment/adapters/markdown_destinations.py)."""
-    md = TextParser("commonmark", {"maxNesting": MAX_NESTING, "html": True})
+    chosen extensions; built once per combination. It gives the tokens of a stock markdown-it
+    parser, less some work whose result chunks never show (segment/adapters/markdown_parser.py)."""
+    md = configure(TextParser("commonmark", {"maxNesting": MAX_NESTING, "html": True}), syntax)
+    plain_text_inline(md)
+    return md
+
+
+def configure(md: MarkdownIt, syntax: SiteSyntax) -> MarkdownIt:
+    """`md` (a CommonMark parser) with GFM tables and strikethrough, front matter and the chosen
+    extensions."""
     md.enable(["table", "strikethrough"])
     md.use(front_matter_plugin)
     if not syntax.indented_code:

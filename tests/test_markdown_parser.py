@@ -1,7 +1,9 @@
-"""Link destinations are checked without being normalised, with markdown-it's own verdicts.
+"""The adapter's markdown-it parser gives a stock parser's tokens, less the work chunks never show.
 
-Reference: markdown-it-py's `normalizeLink` then `validateLink` (markdown_it.common.normalize_url),
-the path a stock `MarkdownIt` takes for every link, image and reference definition."""
+References: markdown-it-py itself. Link destinations: its `normalizeLink` then `validateLink`
+(markdown_it.common.normalize_url), the path a stock `MarkdownIt` takes for every link, image and
+reference definition. Plain inline runs: a stock parser with the same rules and plugins, token for
+token (only `href`/`src` differ: ours keep the destination as written)."""
 
 from __future__ import annotations
 
@@ -12,11 +14,14 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from markdown_it import MarkdownIt
 from markdown_it.common.normalize_url import normalizeLink, validateLink
+from markdown_it.token import Token
 
-from segment.adapters.markdown_destinations import TextParser, allowed_destination
-from segment.adapters.markdown_site import SiteSyntax, parser_for
+from segment.adapters.markdown_parser import TextParser, allowed_destination, plain_text_inline
+from segment.adapters.markdown_site import MAX_NESTING, SiteSyntax, configure, parser_for
+from segment.adapters.mdx import strip_mdx
 
-SHARED = Path(__file__).resolve().parents[2] / "shared" / "corpus"
+ROOT = Path(__file__).resolve().parents[1]
+SHARED = ROOT.parent / "shared" / "corpus"
 
 
 def reference_verdict(url: str) -> bool:
@@ -124,3 +129,81 @@ def test_every_destination_in_the_shared_markdown_corpora_gets_markdown_its_verd
             md.parse(path.read_text(encoding="utf-8", errors="replace"))
     assert len(seen) > 1000
     assert [allowed_destination(u) for u in seen] == [reference_verdict(u) for u in seen]
+
+
+# ----- plain inline runs -------------------------------------------------------------------------
+
+
+def stock_parser(syntax: SiteSyntax) -> MarkdownIt:
+    return configure(MarkdownIt("commonmark", {"maxNesting": MAX_NESTING, "html": True}), syntax)
+
+
+def comparable(tokens: list[Token]) -> list[tuple[object, ...]]:
+    """Every field of every token, children included; link and image destinations left out."""
+    return [
+        (
+            *(t.type, t.tag, t.nesting, t.map, t.level, t.content, t.markup, t.info, t.block, t.hidden),
+            {k: v for k, v in t.attrs.items() if k not in ("href", "src")},
+            repr(t.meta),
+            None if t.children is None else comparable(t.children),
+        )
+        for t in tokens
+    ]
+
+
+def assert_same_tokens(text: str, syntax: SiteSyntax) -> None:
+    assert comparable(parser_for(syntax).parse(text, {})) == comparable(stock_parser(syntax).parse(text, {}))
+
+
+def test_a_plain_run_becomes_one_text_token() -> None:
+    tokens = parser_for(SiteSyntax()).parse("# Getting started\n\nInstall the agent first\n")
+    assert [(c.type, c.content, c.level) for c in tokens[1].children or []] == [
+        ("text", "Getting started", 0)
+    ]
+    assert [(c.type, c.content) for c in tokens[4].children or []] == [("text", "Install the agent first")]
+    assert_same_tokens("# Getting started\n\nInstall the agent first\n\n#\n", SiteSyntax())
+
+
+def test_the_shortcut_is_installed_only_where_it_is_exact() -> None:
+    assert plain_text_inline(stock_parser(SiteSyntax()))
+    before_text = stock_parser(SiteSyntax())
+    before_text.inline.ruler.before("text", "shout", lambda state, silent: False)
+    assert not plain_text_inline(before_text)
+    other_post_rule = stock_parser(SiteSyntax())
+    other_post_rule.inline.ruler2.push("rewrite", lambda state: None)
+    assert not plain_text_inline(other_post_rule)
+
+
+_MARKDOWN_ISH = st.text(
+    alphabet=st.sampled_from(
+        list("ab Z9.,;'\"\t\n") + list("*_`[]()<>&\\!#-:|~^=+$%@{}") + ["\u00e9", "\u3000"]
+    ),
+    max_size=80,
+)
+
+
+# Property: any text, plain or not, parses to the same tokens as with the stock inline rule.
+@settings(max_examples=1500, deadline=None)
+@given(_MARKDOWN_ISH)
+def test_any_text_parses_to_the_stock_tokens(text: str) -> None:
+    assert_same_tokens(text, SiteSyntax())
+
+
+def _sources() -> list[tuple[Path, SiteSyntax]]:
+    roots = [ROOT / "fixtures", SHARED]
+    found: list[tuple[Path, SiteSyntax]] = []
+    for root in roots:
+        found += [(p, SiteSyntax()) for p in sorted(root.rglob("*.md"))]
+        found += [(p, SiteSyntax().without_indented_code()) for p in sorted(root.rglob("*.mdx"))]
+    return found
+
+
+def test_every_markdown_and_mdx_page_parses_to_the_stock_tokens() -> None:
+    # Fixtures, and real documentation when ../shared is present (licences in each SOURCE.md).
+    sources = _sources()
+    assert len(sources) > 20
+    for path, syntax in sources:
+        text = path.read_text(encoding="utf-8", errors="replace")
+        if path.suffix == ".mdx":
+            text = strip_mdx(text)
+        assert_same_tokens(text, syntax)
