@@ -140,3 +140,28 @@ def test_python_tags_are_not_constructed(tmp_path: Path, tag: str) -> None:
     doc = _doc(tmp_path, f"x: {tag} ls")
     assert doc.properties == {}
     assert any("not valid YAML" in w for w in doc.warnings)
+
+
+def test_the_common_case_gives_the_key_by_key_answer() -> None:
+    # Flat front matter of plain values is kept as it is without the walk; on generated front
+    # matter (values inside and outside the caps, nested, of other types) both answers and
+    # warnings equal the key-by-key walk's.
+    import datetime
+    import random
+
+    values: list[object] = [
+        *(None, True, False, 0, 7, -2, 10**30, 1.5, float("inf"), ""),
+        *("x", "é" * 50, "a" * props.MAX_VALUE_CHARS, "a" * (props.MAX_VALUE_CHARS + 1)),
+        *([], [1, "a", None], ["b"] * props.MAX_LIST_ITEMS, ["b"] * (props.MAX_LIST_ITEMS + 1)),
+        *([{"a": 1}], {"n": 1, "m": {"k": [2]}}, (1, 2), datetime.date(2026, 1, 2), b"raw"),
+        *(["\x00" * 1900] * 3, "\u2028" * 1999),
+    ]
+    keys: list[object] = ["title", "tags", "a.b", "é", 1, None]
+    rng = random.Random(11)
+    for _ in range(3000):
+        data = {rng.choice(keys): rng.choice(values) for _ in range(rng.randint(0, 12))}
+        fast_warnings: list[str] = []
+        walk_warnings: list[str] = []
+        fast = props.properties_of(data, fast_warnings)
+        assert fast == props.walked_properties(data, walk_warnings), data
+        assert fast_warnings == walk_warnings

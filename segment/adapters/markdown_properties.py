@@ -131,6 +131,13 @@ def _refusal(content: str) -> str | None:
 
 def properties_of(data: dict[Any, Any], warnings: list[str]) -> dict[str, Any]:
     """Declared properties: scalars and lists of scalars, nested mappings as dotted keys, capped."""
+    if _flat_and_small(data):
+        return {key: list(value) if type(value) is list else value for key, value in data.items()}
+    return walked_properties(data, warnings)
+
+
+def walked_properties(data: dict[Any, Any], warnings: list[str]) -> dict[str, Any]:
+    """`properties_of` key by key, for any front matter (its answer where the common case is not)."""
     flat: list[tuple[str, Any]] = []
     stack: list[tuple[str, Any]] = [(str(k), v) for k, v in reversed(list(data.items()))]
     while stack:  # iterative: depth is already capped, but no recursion anyway
@@ -156,6 +163,25 @@ def properties_of(data: dict[Any, Any], warnings: list[str]) -> dict[str, Any]:
         total += size
         out[key] = kept
     return out
+
+
+_PLAIN_SCALARS = (str, int, bool, type(None))
+
+
+def _flat_and_small(data: dict[Any, Any]) -> bool:
+    """The common case, in which `properties_of` keeps everything as it is: string keys, values
+    that are strings, integers, booleans or null (or lists of at most MAX_LIST_ITEMS of them), no
+    string over MAX_VALUE_CHARS, and a JSON form within MAX_TOTAL_CHARS."""
+    for key, value in data.items():
+        if type(key) is not str:
+            return False
+        items = value if type(value) is list else (value,)
+        if len(items) > MAX_LIST_ITEMS:
+            return False
+        for item in items:
+            if type(item) not in _PLAIN_SCALARS or (type(item) is str and len(item) > MAX_VALUE_CHARS):
+                return False
+    return len(json.dumps(data, ensure_ascii=False, separators=(",", ":"))) <= MAX_TOTAL_CHARS
 
 
 _DROP = object()
