@@ -453,6 +453,9 @@ def _code_lines(content: str) -> list[str]:
 
 
 def _span(tok: Token) -> Span:
-    if tok.map:
-        return Span(lines=(tok.map[0] + 1, max(tok.map[1], tok.map[0] + 1)))
+    """The token's source lines, 1-based and inclusive (markdown-it's map is 0-based, end exclusive)."""
+    m = tok.map
+    if m:
+        first, end = m
+        return Span((first + 1, end if end > first else first + 1))  # positional: a frozen init is dear
     return Span()
