@@ -71,6 +71,10 @@ class _WholeSection:
     """The section's own heading and blocks, before its children."""
 
 
+_KIND_VALUES = {kind: kind.value for kind in BlockKind}
+"""Each kind's plain string (an enum's `.value` is a property, dearer than a lookup)."""
+
+
 def _bare_heading(whole: _WholeSection) -> bool:
     """A section's intro that is its heading alone (its children follow)."""
     return whole.intro and len(whole.members) == 1 and whole.members[0].kind == BlockKind.HEADING
@@ -400,7 +404,9 @@ class Segmenter:
             span = merge_spans([p.span for p in draft.members])
             lines, cells = (None, span.lines) if document.format in CELL_FORMATS else (span.lines, None)
             # Distinct block kinds in order of first appearance; a heading counts only alone.
-            kinds = list(dict.fromkeys(p.kind.value for p in draft.members if p.kind != BlockKind.HEADING))
+            kinds = list(
+                dict.fromkeys(_KIND_VALUES[p.kind] for p in draft.members if p.kind != BlockKind.HEADING)
+            )
             kinds = kinds or [BlockKind.HEADING.value]
             chunks.append(
                 Chunk(
