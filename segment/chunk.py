@@ -116,8 +116,13 @@ def normalise_text(text: str) -> str:
 
 def chunk_id(source: str, breadcrumb: list[str], text: str, occurrence: int = 0) -> str:
     """Stable id from content, never from position: 32 hex characters."""
+    return id_of_normalised(source, breadcrumb, normalise_text(text), occurrence)
+
+
+def id_of_normalised(source: str, breadcrumb: list[str], normalised: str, occurrence: int = 0) -> str:
+    """`chunk_id` of a text already through `normalise_text`."""
     h = hashlib.blake2b(digest_size=16)
-    for part in (ID_VERSION, source, "\x1f".join(breadcrumb), normalise_text(text), str(occurrence)):
+    for part in (ID_VERSION, source, "\x1f".join(breadcrumb), normalised, str(occurrence)):
         h.update(part.encode("utf-8", "surrogatepass"))
         h.update(b"\x00")
     return h.hexdigest()

@@ -16,7 +16,7 @@ from __future__ import annotations
 from collections.abc import Iterator
 from dataclasses import dataclass
 
-from segment.chunk import CELL_FORMATS, Chunk, chunk_id, normalise_text
+from segment.chunk import CELL_FORMATS, Chunk, id_of_normalised, normalise_text
 from segment.errors import SegmentError
 from segment.gcpause import paused_gc
 from segment.kinds import render_block, splitter
@@ -398,7 +398,8 @@ class Segmenter:
                 if line:
                     text = f"{line}\n\n{text}"
                     tokens = self.counter.count(text)
-            key = (*draft.breadcrumb, "\x1f", normalise_text(text))
+            normalised = normalise_text(text)
+            key = (*draft.breadcrumb, "\x1f", normalised)
             occurrence = seen.get(key, 0)
             seen[key] = occurrence + 1
             span = merge_spans([p.span for p in draft.members])
@@ -410,7 +411,7 @@ class Segmenter:
             kinds = kinds or [BlockKind.HEADING.value]
             chunks.append(
                 Chunk(
-                    id=chunk_id(document.source, draft.breadcrumb, text, occurrence),
+                    id=id_of_normalised(document.source, draft.breadcrumb, normalised, occurrence),
                     source=document.source,
                     format=document.format,
                     seq=len(chunks),

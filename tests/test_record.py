@@ -9,7 +9,7 @@ import jsonschema
 import pytest
 
 import segment
-from segment.chunk import Chunk, chunk_id
+from segment.chunk import Chunk, chunk_id, id_of_normalised
 from tests.conftest import FIXTURES
 
 SCHEMA = json.loads(resources.files("segment").joinpath("schema/chunk.schema.json").read_text())
@@ -58,3 +58,5 @@ def test_id_ignores_whitespace_but_not_words_or_place() -> None:
     assert chunk_id("b.md", ["T", "S"], "one two") != base
     assert chunk_id("a.md", ["T"], "one two") != base
     assert chunk_id("a.md", ["T", "S"], "one two", occurrence=1) != base
+    # The segmenter normalises a chunk's text once and hashes that form: the same id.
+    assert id_of_normalised("a.md", ["T", "S"], "one two") == base
