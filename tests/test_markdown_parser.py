@@ -165,6 +165,8 @@ def test_a_plain_run_becomes_one_text_token() -> None:
 
 
 def test_the_shortcut_is_installed_only_where_it_is_exact() -> None:
+    if not hasattr(MarkdownIt().inline, "terminator_re"):
+        pytest.skip("markdown-it-py before 4.3 has no terminator_re: the shortcut is never installed")
     assert plain_text_inline(stock_parser(SiteSyntax()))
     before_text = stock_parser(SiteSyntax())
     before_text.inline.ruler.before("text", "shout", lambda state, silent: False)
