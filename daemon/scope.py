@@ -18,11 +18,11 @@ import fnmatch
 import os
 import stat
 from dataclasses import dataclass
-from pathlib import Path, PurePath
+from pathlib import Path
 
 import pathspec
 
-from segment.adapters import is_extensionless, names_files, supported_suffixes
+from segment.adapters import is_extensionless, lower_suffix, names_files, supported_suffixes
 from segment.daemon.store import StatSig
 from segment.settings import CONFIG_NAME, Settings
 
@@ -208,12 +208,12 @@ class Scope:
 
 def suffix_of(name: str) -> str:
     """The lower-case suffix of a file name, "(none)" when it has none."""
-    return PurePath(name).suffix.lower() or "(none)"
+    return lower_suffix(name) or "(none)"
 
 
 def is_read(name: str) -> bool:
     """True when some adapter reads a file of this name (by its suffix)."""
-    return PurePath(name).suffix.lower() in supported_suffixes()
+    return lower_suffix(name) in supported_suffixes()
 
 
 def display_name(rel: str) -> str:

@@ -317,6 +317,6 @@ def test_the_suffix_is_read_as_pathlib_reads_it(name: str) -> None:
     # Reference: pathlib (PurePath.suffix), which the registry's fast path mirrors.
     from pathlib import PurePath
 
-    from segment.adapters import _suffix
+    from segment.adapters import lower_suffix
 
-    assert _suffix(name) == PurePath(name).suffix.lower()
+    assert lower_suffix(name) == PurePath(name).suffix.lower()

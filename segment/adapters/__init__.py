@@ -85,7 +85,7 @@ named: by the user on the command line, or by an include pattern (see `names_fil
 
 def adapter_for(path: str | PurePath) -> Adapter:
     """The adapter for a file name, by suffix (case-insensitive); no suffix means plain text."""
-    suffix = _suffix(path)
+    suffix = lower_suffix(path)
     for adapter in ADAPTERS:
         if suffix in adapter.suffixes:
             return adapter
@@ -94,7 +94,7 @@ def adapter_for(path: str | PurePath) -> Adapter:
     raise UnsupportedFormat(str(path), f"no adapter for suffix {suffix!r}")
 
 
-def _suffix(path: str | PurePath) -> str:
+def lower_suffix(path: str | PurePath) -> str:
     """`PurePath(path).suffix.lower()` without building a path object (it runs for every file)."""
     if not isinstance(path, str) or "\\" in path:  # a Windows separator: let pathlib decide
         return PurePath(path).suffix.lower()
@@ -105,7 +105,7 @@ def _suffix(path: str | PurePath) -> str:
 
 def is_supported(path: str | PurePath) -> bool:
     """True when some adapter handles this file name."""
-    return PurePath(path).suffix.lower() in SUPPORTED_SUFFIXES
+    return lower_suffix(path) in SUPPORTED_SUFFIXES
 
 
 def is_extensionless(path: str | PurePath) -> bool:

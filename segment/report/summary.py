@@ -5,10 +5,10 @@ from __future__ import annotations
 import os
 from collections import Counter
 from dataclasses import dataclass, field
-from pathlib import Path, PurePath
+from pathlib import Path
 from typing import Any
 
-from segment.adapters import ADAPTERS
+from segment.adapters import ADAPTERS, lower_suffix
 from segment.daemon.scope import Scope
 from segment.report.figures import TOP_FILES, ChunkFigures, FileProblems, as_plain, chunk_figures
 from segment.report.output import Output
@@ -19,7 +19,7 @@ SKIPPED_EXAMPLES = 20
 
 def format_of(source: str) -> str:
     """Format of a source file by its suffix ('other' when no adapter takes it)."""
-    suffix = PurePath(source).suffix.lower()
+    suffix = lower_suffix(source)
     return next((a.format for a in ADAPTERS if suffix in a.suffixes), "other")
 
 
