@@ -39,19 +39,13 @@ from pathlib import Path
 import docutils.core
 
 import segment
+from segment.adapters.rst.publish import CONTAINED
 from segment.gcpause import paused_gc
 from segment.settings import Settings
 
 CORPUS = Path(__file__).resolve().parents[1].parent / "shared" / "corpus" / "rst"
-QUIET = {
-    "_disable_config": True,
-    "report_level": 5,
-    "halt_level": 5,
-    "traceback": True,
-    "file_insertion_enabled": False,
-    "raw_enabled": False,
-    "syntax_highlight": "none",
-}
+QUIET = {**CONTAINED, "report_level": 5}
+"""The adapter's contained settings, with no messages at all: docutils' own run at its quietest."""
 
 
 def load(root: Path) -> list[tuple[str, bytes]]:

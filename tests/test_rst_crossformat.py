@@ -51,6 +51,7 @@ from docutils.utils.math import unichar2tex
 import segment
 from segment.adapters.html import parse as parse_html
 from segment.adapters.rst.extensions import LenientParser
+from segment.adapters.rst.publish import CONTAINED
 from segment.tree import Block, Code, DefinitionList, Document, ListBlock, Paragraph, Quote, Table
 from tests.conftest import CORPUS, FIXTURES, corpus_files
 
@@ -122,13 +123,8 @@ def docutils_html(text: str, titled: bool) -> bytes:
             writer="html5",
             parser=LenientParser(),
             settings_overrides={
-                "_disable_config": True,
+                **CONTAINED,
                 "report_level": 5,
-                "halt_level": 5,
-                "traceback": True,
-                "file_insertion_enabled": False,
-                "raw_enabled": False,
-                "syntax_highlight": "none",
                 "initial_header_level": 2 if titled else 1,
                 "output_encoding": "utf-8",
                 "embed_stylesheet": False,

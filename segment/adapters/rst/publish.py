@@ -24,6 +24,18 @@ from segment.adapters.rst.extensions import LenientParser
 MAX_WARNINGS = 50
 """docutils messages kept per document; past this, one line says how many more there were."""
 
+CONTAINED: dict[str, Any] = {
+    "_disable_config": True,
+    "halt_level": 5,
+    "exit_status_level": 5,
+    "traceback": True,
+    "file_insertion_enabled": False,
+    "raw_enabled": False,
+    "syntax_highlight": "none",
+}
+"""The settings that keep any docutils run inside its input (the module docstring says why each);
+the tests' and benchmarks' reference runs start from them too."""
+
 _MESSAGE = re.compile(r"^[^\n]*?:(\d+): \((\w+)/\d\) ", re.DOTALL)
 
 
@@ -61,14 +73,8 @@ class MessageLog:
 def _defaults() -> Any:
     settings = frontend.get_default_settings(LenientParser, standalone.Reader)
     overrides: dict[str, Any] = {
-        "_disable_config": True,
+        **CONTAINED,
         "report_level": 2,
-        "halt_level": 5,
-        "exit_status_level": 5,
-        "traceback": True,
-        "file_insertion_enabled": False,
-        "raw_enabled": False,
-        "syntax_highlight": "none",
         "smart_quotes": False,
         "pep_references": False,
         "rfc_references": False,
